@@ -1,0 +1,39 @@
+# The two commands a newcomer types on a fresh clone: `make demo` and `make test`.
+# Each creates .venv and installs the project itself, so nothing else is needed first.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+DEMO_DB ?= demo.sqlite
+DEMO_OUT ?= demo_export
+
+.PHONY: demo test install bench clean
+
+$(BIN)/summarize: pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/pip install --quiet --upgrade pip
+	# torch first and pinned: the CPU wheel; an unpinned torch resolves to a CUDA build.
+	$(BIN)/pip install --quiet torch==2.13.0
+	$(BIN)/pip install --quiet -e '.[dev]'
+	touch $(BIN)/summarize
+
+install: $(BIN)/summarize
+
+demo: install
+	rm -f $(DEMO_DB) $(DEMO_DB)-wal $(DEMO_DB)-shm
+	-$(BIN)/summarize run demo_archive --db $(DEMO_DB)
+	$(BIN)/summarize score --db $(DEMO_DB)
+	$(BIN)/summarize compare --db $(DEMO_DB)
+	mkdir -p $(DEMO_OUT)
+	$(BIN)/summarize export --db $(DEMO_DB) --format html --out $(DEMO_OUT)/summaries.html
+	$(BIN)/summarize export --db $(DEMO_DB) --format csv --out $(DEMO_OUT)/summaries.csv
+	$(BIN)/summarize report --db $(DEMO_DB) --out $(DEMO_OUT)/report.html
+	@echo "store: $(DEMO_DB)   exports: $(DEMO_OUT)/summaries.html, $(DEMO_OUT)/summaries.csv   report: $(DEMO_OUT)/report.html"
+
+test: install
+	$(BIN)/python -m pytest -q
+
+bench: install
+	$(BIN)/python -m bench
+
+clean:
+	rm -rf $(VENV) $(DEMO_DB) $(DEMO_DB)-wal $(DEMO_DB)-shm $(DEMO_OUT)
