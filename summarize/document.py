@@ -90,6 +90,17 @@ class SummarySentence:
     sources: tuple[SourceLink, ...]
 
 
+@dataclass(frozen=True)
+class Flag:
+    """Something a reader should check in a summary, e.g. ``kind="unsupported-number"``
+    for a number that occurs nowhere in the source. ``position`` is the index of the
+    summary sentence it concerns (None for the whole summary)."""
+
+    kind: str
+    detail: str
+    position: int | None = None
+
+
 @dataclass
 class Summary:
     """The output of one method on one document.
@@ -105,6 +116,7 @@ class Summary:
     sentences: list[SummarySentence]
     seconds: float = 0.0
     details: dict = field(default_factory=dict)
+    flags: list[Flag] = field(default_factory=list)
 
     @property
     def text(self) -> str:
