@@ -1,0 +1,145 @@
+"""The SQLite schema, created and migrated in order by ``PRAGMA user_version``.
+
+One file holds everything, readable with any SQLite tool:
+
+    documents            one row per (record_key, content hash); text held once
+    document_sentences   sentence spans of each document (provenance, highlighting)
+    reference_summaries  the human summary found for a document, and where
+    runs                 one row per run: configuration, library versions, host, outcome
+    ingest_problems      files that could not be read (or were skipped), per run
+    summaries            one per (document, method, parameter hash)
+    summary_sentences    each summary sentence, in order
+    sentence_sources     the source span(s) behind each summary sentence
+    flags                faithfulness warnings on summaries
+    scores               ROUGE and other metrics per summary
+
+Full-text search (FTS5) covers document titles and summary texts.
+"""
+
+from __future__ import annotations
+
+import sqlite_utils
+
+SCHEMA_VERSION = 1
+
+
+def _create_v1(db: sqlite_utils.Database) -> None:
+    db["runs"].create(
+        {
+            "id": int,
+            "started": str,
+            "finished": str,
+            "status": str,
+            "command": str,
+            "config": str,
+            "versions": str,
+            "host": str,
+            "pid": int,
+            "counts": str,
+        },
+        pk="id",
+    )
+    db["documents"].create(
+        {
+            "id": int,
+            "record_key": str,
+            "path": str,
+            "sha256": str,
+            "format": str,
+            "title": str,
+            "date": str,
+            "size": int,
+            "encoding": str,
+            "text": str,
+            "metadata": str,
+            "status": str,
+            "duplicate_of": int,
+            "first_run": int,
+            "last_run": int,
+        },
+        pk="id",
+        foreign_keys=[("duplicate_of", "documents", "id"), ("first_run", "runs", "id"), ("last_run", "runs", "id")],
+    )
+    db["documents"].create_index(["record_key", "sha256"], unique=True)
+    db["documents"].create_index(["sha256"])
+    db["documents"].create_index(["status"])
+    db["document_sentences"].create(
+        {"document_id": int, "position": int, "start": int, "end": int, "paragraph": int, "is_heading": int},
+        pk=("document_id", "position"),
+        foreign_keys=[("document_id", "documents", "id")],
+    )
+    db["reference_summaries"].create(
+        {"document_id": int, "text": str, "source": str},
+        pk="document_id",
+        foreign_keys=[("document_id", "documents", "id")],
+    )
+    db["ingest_problems"].create(
+        {"id": int, "run_id": int, "path": str, "kind": str, "reason": str, "created": str},
+        pk="id",
+        foreign_keys=[("run_id", "runs", "id")],
+    )
+    db["ingest_problems"].create_index(["path"])
+    db["summaries"].create(
+        {
+            "id": int,
+            "document_id": int,
+            "method": str,
+            "param_hash": str,
+            "params": str,
+            "text": str,
+            "seconds": float,
+            "details": str,
+            "run_id": int,
+            "created": str,
+        },
+        pk="id",
+        foreign_keys=[("document_id", "documents", "id"), ("run_id", "runs", "id")],
+    )
+    db["summaries"].create_index(["document_id", "method", "param_hash"], unique=True)
+    db["summaries"].create_index(["method"])
+    db["summary_sentences"].create(
+        {"summary_id": int, "position": int, "text": str, "score": float},
+        pk=("summary_id", "position"),
+        foreign_keys=[("summary_id", "summaries", "id")],
+    )
+    db["sentence_sources"].create(
+        {"summary_id": int, "position": int, "rank": int, "start": int, "end": int, "similarity": float},
+        pk=("summary_id", "position", "rank"),
+        foreign_keys=[("summary_id", "summaries", "id")],
+    )
+    db["flags"].create(
+        {"id": int, "summary_id": int, "position": int, "kind": str, "detail": str},
+        pk="id",
+        foreign_keys=[("summary_id", "summaries", "id")],
+    )
+    db["flags"].create_index(["summary_id"])
+    db["scores"].create(
+        {"summary_id": int, "metric": str, "precision": float, "recall": float, "f1": float, "created": str},
+        pk=("summary_id", "metric"),
+        foreign_keys=[("summary_id", "summaries", "id")],
+    )
+    db["documents"].enable_fts(["title", "path"], create_triggers=True, tokenize="porter")
+    db["summaries"].enable_fts(["text"], create_triggers=True, tokenize="porter")
+
+
+MIGRATIONS = {1: _create_v1}
+
+
+def open_database(path: str) -> sqlite_utils.Database:
+    """Open (creating if needed) a store and bring its schema up to date."""
+    db = sqlite_utils.Database(path)
+    db.execute("PRAGMA foreign_keys = ON")
+    version = db.execute("PRAGMA user_version").fetchone()[0]
+    if version > SCHEMA_VERSION:
+        raise RuntimeError(
+            f"{path}: store schema version {version} is newer than this program understands ({SCHEMA_VERSION})"
+        )
+    if version < SCHEMA_VERSION:
+        # WAL lets readers (find, show, export) work while a run writes.
+        db.enable_wal()
+        with db.conn:
+            for step in range(version + 1, SCHEMA_VERSION + 1):
+                MIGRATIONS[step](db)
+            db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+    db.execute("PRAGMA busy_timeout = 30000")
+    return db

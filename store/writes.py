@@ -1,0 +1,220 @@
+"""Writing to the store: idempotent, one small transaction per document.
+
+A rerun finds what is already there by natural keys (record key + content hash for
+documents; document + method + parameter hash for summaries) and adds only what is
+missing, so an interrupted run loses at most the document in flight.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import platform
+import socket
+from contextlib import contextmanager
+from datetime import datetime, timezone
+from importlib import metadata
+
+import sqlite_utils
+
+from store.schema import open_database
+from summarize.document import Document, Segmentation, Summary
+
+VERSIONED_PACKAGES = (
+    "archive-summarizer",
+    "pysbd",
+    "scikit-learn",
+    "numpy",
+    "scipy",
+    "rouge-score",
+    "sqlite-utils",
+    "transformers",
+    "torch",
+    "tokenizers",
+    "pypdf",
+    "python-docx",
+    "beautifulsoup4",
+)
+
+
+def now() -> str:
+    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+
+
+def library_versions() -> dict:
+    versions = {"python": platform.python_version()}
+    for name in VERSIONED_PACKAGES:
+        try:
+            versions[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            versions[name] = None
+    return versions
+
+
+class Store:
+    """A summary store in one SQLite file."""
+
+    def __init__(self, path: str):
+        self.path = path
+        self.db: sqlite_utils.Database = open_database(path)
+
+    def close(self) -> None:
+        self.db.close()
+
+    @contextmanager
+    def transaction(self):
+        with self.db.conn:
+            yield
+
+    # runs -------------------------------------------------------------------------
+
+    def begin_run(self, command: str, config: dict) -> int:
+        with self.transaction():
+            return self.db["runs"].insert(
+                {
+                    "started": now(),
+                    "status": "running",
+                    "command": command,
+                    "config": json.dumps(config, sort_keys=True, default=str),
+                    "versions": json.dumps(library_versions(), sort_keys=True),
+                    "host": socket.gethostname(),
+                    "pid": os.getpid(),
+                }
+            ).last_pk
+
+    def finish_run(self, run_id: int, status: str, counts: dict) -> None:
+        with self.transaction():
+            self.db["runs"].update(
+                run_id, {"finished": now(), "status": status, "counts": json.dumps(counts, sort_keys=True)}
+            )
+
+    def update_run_config(self, run_id: int, config: dict) -> None:
+        with self.transaction():
+            self.db["runs"].update(run_id, {"config": json.dumps(config, sort_keys=True, default=str)})
+
+    # documents --------------------------------------------------------------------
+
+    def find_document(self, record_key: str, sha256: str) -> dict | None:
+        rows = list(self.db["documents"].rows_where("record_key = ? and sha256 = ?", [record_key, sha256]))
+        return rows[0] if rows else None
+
+    def add_document(self, document: Document, segmentation: Segmentation, run_id: int) -> tuple[int, bool]:
+        """Store a document unless the same record with the same content is there.
+
+        Returns ``(document_id, added)``. A record whose content changed gets a new row;
+        the earlier version stays, marked ``replaced``, with its summaries. Content
+        already stored under another record key is marked ``duplicate`` of it.
+        """
+        existing = self.find_document(document.record_key, document.sha256)
+        if existing is not None:
+            with self.transaction():
+                self.db["documents"].update(existing["id"], {"last_run": run_id})
+            return existing["id"], False
+        with self.transaction():
+            twin = self.db.execute(
+                "select id from documents where sha256 = ? and record_key != ? and status = 'active' "
+                "order by id limit 1",
+                [document.sha256, document.record_key],
+            ).fetchone()
+            self.db.execute(
+                "update documents set status = 'replaced' where record_key = ? and status = 'active'",
+                [document.record_key],
+            )
+            document_id = self.db["documents"].insert(
+                {
+                    "record_key": document.record_key,
+                    "path": document.path,
+                    "sha256": document.sha256,
+                    "format": document.format,
+                    "title": document.title,
+                    "date": document.date,
+                    "size": document.size,
+                    "encoding": document.encoding,
+                    "text": document.text,
+                    "metadata": json.dumps(document.metadata, sort_keys=True, default=str),
+                    "status": "duplicate" if twin else "active",
+                    "duplicate_of": twin[0] if twin else None,
+                    "first_run": run_id,
+                    "last_run": run_id,
+                }
+            ).last_pk
+            self.db["document_sentences"].insert_all(
+                {
+                    "document_id": document_id,
+                    "position": position,
+                    "start": span.start,
+                    "end": span.end,
+                    "paragraph": paragraph,
+                    "is_heading": int(heading),
+                }
+                for position, (span, paragraph, heading) in enumerate(
+                    zip(segmentation.sentences, segmentation.sentence_paragraph, segmentation.sentence_is_heading)
+                )
+            )
+            if document.reference_summary:
+                self.db["reference_summaries"].insert(
+                    {"document_id": document_id, "text": document.reference_summary, "source": document.reference_source}
+                )
+        return document_id, True
+
+    def record_problem(self, run_id: int, path: str, kind: str, reason: str) -> None:
+        with self.transaction():
+            self.db["ingest_problems"].insert(
+                {"run_id": run_id, "path": path, "kind": kind, "reason": reason, "created": now()}
+            )
+
+    # summaries --------------------------------------------------------------------
+
+    def has_summary(self, document_id: int, method: str, param_hash: str) -> bool:
+        return bool(
+            self.db.execute(
+                "select 1 from summaries where document_id = ? and method = ? and param_hash = ?",
+                [document_id, method, param_hash],
+            ).fetchone()
+        )
+
+    def add_summary(self, document_id: int, run_id: int, summary: Summary) -> int:
+        """Store a summary with its sentences, sources and flags; a summary already
+        stored for the same document, method and parameters is kept as it is."""
+        with self.transaction():
+            row = self.db.execute(
+                "select id from summaries where document_id = ? and method = ? and param_hash = ?",
+                [document_id, summary.method, summary.param_hash],
+            ).fetchone()
+            if row:
+                return row[0]
+            summary_id = self.db["summaries"].insert(
+                {
+                    "document_id": document_id,
+                    "method": summary.method,
+                    "param_hash": summary.param_hash,
+                    "params": json.dumps(summary.params, sort_keys=True, default=str),
+                    "text": summary.text,
+                    "seconds": summary.seconds,
+                    "details": json.dumps(summary.details, sort_keys=True, default=str),
+                    "run_id": run_id,
+                    "created": now(),
+                }
+            ).last_pk
+            self.db["summary_sentences"].insert_all(
+                {"summary_id": summary_id, "position": position, "text": sentence.text, "score": sentence.score}
+                for position, sentence in enumerate(summary.sentences)
+            )
+            self.db["sentence_sources"].insert_all(
+                {
+                    "summary_id": summary_id,
+                    "position": position,
+                    "rank": rank,
+                    "start": link.span.start,
+                    "end": link.span.end,
+                    "similarity": link.similarity,
+                }
+                for position, sentence in enumerate(summary.sentences)
+                for rank, link in enumerate(sentence.sources)
+            )
+            if summary.flags:
+                self.db["flags"].insert_all(
+                    {"summary_id": summary_id, "position": flag.position, "kind": flag.kind, "detail": flag.detail}
+                    for flag in summary.flags
+                )
+        return summary_id
