@@ -1,0 +1,190 @@
+"""The ``summarize`` command: a thin layer over the Python API.
+
+Each command parses its arguments, calls one library function of the same name, and
+prints: progress and errors on stderr, results on stdout (``--json`` for machines).
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+import textwrap
+from pathlib import Path
+
+import click
+
+from store.export import FORMATS, export as export_summaries
+from store.queries import CAUTION, DocumentNotFound, find as find_documents, show as show_document
+from store.schema import open_database
+from summarize.batch import EXIT_FAILED, run_archive
+from summarize.budget import Budget
+from summarize.ingest import RecordFields
+
+
+def _fail(message: str) -> None:
+    click.echo(f"error: {message}", err=True)
+    sys.exit(EXIT_FAILED)
+
+
+def _open_existing(db_path: str):
+    if not Path(db_path).exists():
+        _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
+    return open_database(db_path)
+
+
+def _budget(_ctx, _param, value: str) -> Budget:
+    try:
+        return Budget.parse(value)
+    except ValueError as error:
+        raise click.BadParameter(str(error)) from None
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="archive-summarizer")
+def main() -> None:
+    """Summarize document archives in batch and keep everything in one SQLite file.
+
+    Summaries are finding aids: check the source before acting on safety, legal or
+    personnel matters. The store holds full text and falls under the archive's access
+    and retention rules.
+    """
+
+
+@main.command()
+@click.argument("paths", nargs=-1, required=True, type=click.Path())
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False), help="SQLite store (created if missing).")
+@click.option("--methods", default="lead,tfidf,textrank", show_default=True, help="Comma-separated methods.")
+@click.option("--budget", default="3", show_default=True, callback=_budget,
+              help="Summary length: '3' sentences, '80w' words or '10%' of the document.")
+@click.option("--mmr", "mmr_lambda", type=click.FloatRange(0, 1), default=None,
+              help="MMR redundancy control for tfidf/textrank: λ in [0, 1] (1 = relevance only).")
+@click.option("--text-field", default="text", show_default=True, help="JSON/JSONL field holding the text.")
+@click.option("--title-field", default="title", show_default=True, help="JSON/JSONL field holding the title.")
+@click.option("--summary-field", default="summary", show_default=True, help="JSON/JSONL field holding the reference summary.")
+@click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
+@click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
+@click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
+def run(paths, db_path, methods, budget, mmr_lambda, text_field, title_field, summary_field, date_field, id_field, as_json):
+    """Read every document under PATHS, summarize it with each method, store it.
+
+    Exit status: 0 all done; 1 nothing could be done (bad store, bad option);
+    3 finished, but some files or summaries failed (listed on stderr and in the store).
+    """
+    fields = RecordFields(text=text_field, title=title_field, summary=summary_field, date=date_field, id=id_field)
+    try:
+        report = run_archive(
+            paths,
+            db_path,
+            methods=[m.strip() for m in methods.split(",") if m.strip()],
+            budget=budget,
+            mmr_lambda=mmr_lambda,
+            fields=fields,
+        )
+    except ValueError as error:
+        _fail(str(error))
+    if as_json:
+        click.echo(json.dumps({"run_id": report.run_id, **report.counts(), "errors": report.errors}, indent=2))
+    else:
+        counts = report.counts()
+        click.echo(
+            f"run {report.run_id}: {counts['documents_seen']} documents "
+            f"({counts['documents_added']} new, {counts['duplicates']} duplicates), "
+            f"{counts['summaries_added']} summaries added, {counts['summaries_skipped']} already stored, "
+            f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped "
+            f"in {counts['seconds']:.1f}s"
+        )
+    sys.exit(report.exit_status)
+
+
+@main.command()
+@click.argument("query")
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--method", default=None, help="Only search summaries of this method.")
+@click.option("--limit", default=20, show_default=True, type=click.IntRange(1))
+@click.option("--json", "as_json", is_flag=True, help="Print hits as JSON.")
+def find(query, db_path, method, limit, as_json):
+    """Search titles, paths and summaries (full-text, stemmed)."""
+    db = _open_existing(db_path)
+    hits = find_documents(db, query, limit=limit, method=method)
+    if as_json:
+        click.echo(json.dumps(hits, indent=2, ensure_ascii=False))
+        return
+    if not hits:
+        click.echo(f"no matches for {query!r}", err=True)
+        return
+    for hit in hits:
+        click.echo(f"#{hit['document_id']}  {hit['title'] or '(untitled)'}  [{hit['record_key']}]" + (f"  {hit['date']}" if hit["date"] else ""))
+        for match in hit["matches"][:3]:
+            click.echo(f"    {match['method'] or 'title'}: {match['snippet']}")
+
+
+def _print_document(record: dict, highlight: bool) -> None:
+    doc = record["document"]
+    click.echo(f"#{doc['id']}  {doc['title'] or '(untitled)'}")
+    click.echo(f"  source   {doc['path']}  ({doc['format']}, {doc['size']} bytes, {doc['characters']} characters)")
+    click.echo(f"  record   {doc['record_key']}   status {doc['status']}   date {doc['date'] or '-'}")
+    click.echo(f"  sha256   {doc['sha256']}")
+    if len(record["versions"]) > 1:
+        versions = ", ".join(f"#{v['id']} {v['status']}" for v in record["versions"])
+        click.echo(f"  versions {versions}")
+    reference = record["reference_summary"]
+    if reference:
+        click.echo(f"\nReference summary ({reference['source']}):")
+        click.echo(textwrap.indent(textwrap.fill(reference["text"], 88), "  "))
+    for summary in record["summaries"]:
+        scores = "  ".join(f"{m} F1 {v['f1']:.3f}" for m, v in sorted(summary["scores"].items()))
+        click.echo(f"\n{summary['method']}  (parameters {summary['param_hash']}, run {summary['run_id']}){'  ' + scores if scores else ''}")
+        for sentence in summary["sentences"]:
+            click.echo(textwrap.fill(sentence["text"], 88, initial_indent=f"  {sentence['position'] + 1}. ", subsequent_indent="     "))
+            for source in sentence["sources"]:
+                label = "from" if source["similarity"] >= 0.999 else f"supported by ({source['similarity']:.2f})"
+                click.echo(f"     {label} chars {source['start']}-{source['end']}")
+        for flag in summary["flags"]:
+            where = f" (sentence {flag['position'] + 1})" if flag["position"] is not None else ""
+            click.echo(f"  ! check {flag['kind']}: {flag['detail']}{where}")
+    if highlight:
+        text = record["text"]
+        marks = sorted({(s["start"], s["end"]) for summary in record["summaries"] for sent in summary["sentences"] for s in sent["sources"]})
+        pieces, cursor = [], 0
+        for start, end in marks:
+            if start < cursor:
+                continue
+            pieces += [text[cursor:start], click.style(f">>{text[start:end]}<<", bold=True)]
+            cursor = end
+        pieces.append(text[cursor:])
+        click.echo("\nSource text (summary sentences marked >> <<):\n")
+        click.echo("".join(pieces))
+    click.echo(f"\n{CAUTION}")
+
+
+@main.command()
+@click.argument("document")
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--method", default=None, help="Only this method's summaries.")
+@click.option("--highlight", is_flag=True, help="Also print the source text with summary sentences marked.")
+@click.option("--json", "as_json", is_flag=True, help="Print the record as JSON.")
+def show(document, db_path, method, highlight, as_json):
+    """Show one DOCUMENT (id, record key or path): metadata, reference, summaries with
+    their source spans, flags and scores."""
+    db = _open_existing(db_path)
+    try:
+        record = show_document(db, document, method=method)
+    except DocumentNotFound as error:
+        _fail(str(error))
+    if as_json:
+        click.echo(json.dumps(record, indent=2, ensure_ascii=False))
+    else:
+        _print_document(record, highlight)
+
+
+@main.command()
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--format", "fmt", required=True, type=click.Choice(FORMATS))
+@click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--methods", default=None, help="Comma-separated methods to export (default: all).")
+def export(db_path, fmt, out_path, methods):
+    """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file."""
+    db = _open_existing(db_path)
+    chosen = [m.strip() for m in methods.split(",")] if methods else None
+    count = export_summaries(db, fmt, out_path, methods=chosen)
+    click.echo(f"wrote {count} summaries to {out_path}")
