@@ -19,10 +19,9 @@ from summarize.document import Document, Segmentation, Span
 
 _BLANK_LINE = re.compile(r"\n[ \t]*\n")
 _LIST_ITEM = re.compile(r"^\s*(?:[-*•–]\s+|\(?\d{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
-# A heading line: short, no terminal punctuation, and either numbered ("3.2 Findings"),
-# in capitals, or Title Case; kept conservative so wrapped prose is not split.
 _NUMBERED_HEADING = re.compile(r"^\s*(?:\d{1,2}(?:\.\d{1,2})*\.?|[A-Z]\.|[IVX]{1,4}\.)\s+\S")
 _MAX_HEADING_WORDS = 12
+_MAX_NUMBERED_HEADING_WORDS = 7
 
 
 @lru_cache(maxsize=1)
@@ -30,16 +29,19 @@ def _segmenter() -> pysbd.Segmenter:
     return pysbd.Segmenter(language="en", clean=False)
 
 
-def _looks_like_heading(line: str) -> bool:
+def _looks_like_heading(line: str, standalone: bool) -> bool:
+    """A short line without terminal punctuation. Alone in its paragraph that is
+    enough; as the first line of a longer block it must also be numbered, in capitals
+    or in Title Case, so that a wrapped line of prose is not taken for a heading."""
     stripped = line.strip()
     if not stripped or len(stripped.split()) > _MAX_HEADING_WORDS:
         return False
-    if stripped[-1] in ".!?;,":
+    if stripped[-1] in ".!?;,:":
         return False
     letters = [c for c in stripped if c.isalpha()]
     if not letters:
         return False
-    if all(c.isupper() for c in letters):
+    if standalone or all(c.isupper() for c in letters):
         return True
     if _NUMBERED_HEADING.match(stripped):
         return True
@@ -60,9 +62,12 @@ def _units(text: str, start: int, end: int) -> list[tuple[Span, bool]]:
         position = line_end + 1
         if not line.strip():
             continue
-        standalone_heading = len(lines) == 1 and _looks_like_heading(line)
-        is_item = bool(_LIST_ITEM.match(line))
-        is_heading_line = len(lines) > 1 and index == 0 and _looks_like_heading(line)
+        # "2. Scope" is a numbered heading; "2. Replace the seals on pump 4 before May" an item.
+        is_item = bool(_LIST_ITEM.match(line)) and (
+            not _NUMBERED_HEADING.match(line) or len(line.split()) > _MAX_NUMBERED_HEADING_WORDS
+        )
+        standalone_heading = not is_item and len(lines) == 1 and _looks_like_heading(line, standalone=True)
+        is_heading_line = not is_item and len(lines) > 1 and index == 0 and _looks_like_heading(line, standalone=False)
         if standalone_heading or is_item or is_heading_line:
             if prose_start is not None:
                 units.append((Span(prose_start, prose_end), False))
