@@ -1,0 +1,103 @@
+"""Bytes to text for the text formats.
+
+Order of attempts: byte-order mark (UTF-32, UTF-8, UTF-16), strict UTF-8, UTF-16
+without a mark when the NUL pattern says so, an encoding the file itself declares
+(HTML only), strict cp1252, and finally charset-normalizer's best guess. Content
+that is not text at all is refused rather than decoded into noise.
+"""
+
+from __future__ import annotations
+
+import codecs
+
+import charset_normalizer
+
+from summarize.readers.errors import ReadError
+
+# UTF-32 marks first: the UTF-32-LE mark begins with the UTF-16-LE one.
+_BYTE_ORDER_MARKS = (
+    (codecs.BOM_UTF32_LE, "utf-32"),
+    (codecs.BOM_UTF32_BE, "utf-32"),
+    (codecs.BOM_UTF8, "utf-8-sig"),
+    (codecs.BOM_UTF16_LE, "utf-16"),
+    (codecs.BOM_UTF16_BE, "utf-16"),
+)
+
+# Control characters that ordinary text does not contain (tab, newline, form feed
+# and carriage return are fine; ESC and DOS end-of-file turn up in old files).
+_ODD_CONTROL_BYTES = bytes(sorted(set(range(0x20)) - {0x09, 0x0A, 0x0C, 0x0D, 0x1A, 0x1B}))
+_MAX_CONTROL_RATIO = 0.05
+# Share of the high (or low) bytes of UTF-16 code units that must be NUL before
+# text without a byte-order mark is taken for mostly-Latin UTF-16.
+_UTF16_NUL_SHARE = 0.4
+
+
+def decode_text(raw: bytes, declared: str | None = None) -> tuple[str, str]:
+    """Return ``(text, encoding)``. Raises ``ReadError`` for empty files, binary
+    content and bytes no known encoding fits. ``declared`` is an encoding named
+    inside the file (an HTML meta charset); it is tried after UTF-8."""
+    if not raw.strip():
+        raise ReadError("empty file")
+    for mark, encoding in _BYTE_ORDER_MARKS:
+        if raw.startswith(mark):
+            return _decode_or_fail(raw, encoding), encoding
+    if b"\x00" in raw:
+        encoding = _utf16_by_nul_pattern(raw)
+        if encoding is None:
+            raise ReadError("binary content, not text")
+        try:
+            return _checked_text(raw.decode(encoding)), encoding
+        except UnicodeDecodeError:
+            raise ReadError("binary content, not text") from None
+    if _control_ratio(raw) > _MAX_CONTROL_RATIO:
+        raise ReadError("binary content, not text")
+    candidates = ["utf-8"]
+    if declared:
+        candidates.append(declared)
+    candidates.append("cp1252")
+    for encoding in candidates:
+        try:
+            return _checked_text(raw.decode(encoding)), _canonical_name(encoding)
+        except (UnicodeDecodeError, LookupError):
+            continue
+    best = charset_normalizer.from_bytes(raw).best()
+    if best is None:
+        raise ReadError("undecodable text (no known encoding fits)")
+    return _checked_text(str(best)), best.encoding
+
+
+def _decode_or_fail(raw: bytes, encoding: str) -> str:
+    try:
+        return _checked_text(raw.decode(encoding))
+    except UnicodeDecodeError as exc:
+        raise ReadError(f"invalid {encoding} text at byte {exc.start}") from None
+
+
+def _checked_text(text: str) -> str:
+    if not text.strip():
+        raise ReadError("empty file")
+    return text
+
+
+def _utf16_by_nul_pattern(raw: bytes) -> str | None:
+    """UTF-16 of mostly Latin text has a NUL in every other byte."""
+    if len(raw) % 2:
+        return None
+    even_nuls = raw[0::2].count(0)
+    odd_nuls = raw[1::2].count(0)
+    units = len(raw) // 2
+    if odd_nuls >= _UTF16_NUL_SHARE * units and even_nuls < 0.05 * units:
+        return "utf-16-le"
+    if even_nuls >= _UTF16_NUL_SHARE * units and odd_nuls < 0.05 * units:
+        return "utf-16-be"
+    return None
+
+
+def _control_ratio(raw: bytes) -> float:
+    controls = len(raw) - len(raw.translate(None, _ODD_CONTROL_BYTES))
+    return controls / len(raw)
+
+
+def _canonical_name(encoding: str) -> str:
+    """Python's name for an encoding, so 'UTF8' and 'utf_8' are both 'utf-8'."""
+    return codecs.lookup(encoding).name

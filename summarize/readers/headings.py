@@ -1,0 +1,56 @@
+"""Telling heading lines from body lines in text that has no markup for them
+(plain text, PDF text layers, e-mail bodies). Heuristics, stated per function."""
+
+from __future__ import annotations
+
+import re
+
+# A line made of one repeated punctuation character: an rst/setext underline or
+# a plain-text rule.
+UNDERLINE = re.compile(r"^\s*([=\-~^*#+_.:'\"`])\1{2,}\s*$")
+LIST_ITEM = re.compile(r"^\s*(?:[-*+\u2022\u2023\u25aa\u25e6\u2013\u2043]\s+|\(?[0-9]{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
+METADATA_LINE = re.compile(r"^[A-Za-z][A-Za-z .\-/]{0,30}:\s+\S")
+_TERMINAL_PUNCTUATION = tuple(".,;!?")
+_MAX_HEADING_CHARS = 80
+_MAX_HEADING_WORDS = 12
+
+
+def is_underline(line: str) -> bool:
+    return bool(UNDERLINE.match(line))
+
+
+def is_list_item(line: str) -> bool:
+    return bool(LIST_ITEM.match(line))
+
+
+def is_metadata_line(line: str) -> bool:
+    """'Date: 3 May 2024', 'Ref: BR-17' and the like."""
+    return bool(METADATA_LINE.match(line.strip()))
+
+
+def is_capitals_heading(line: str) -> bool:
+    """A short line whose letters are all capitals ('FINDINGS', '2. SCOPE OF WORK')."""
+    stripped = line.strip()
+    letters = [char for char in stripped if char.isalpha()]
+    return (
+        len(letters) >= 2
+        and all(char.isupper() for char in letters)
+        and len(stripped) <= _MAX_HEADING_CHARS
+        and not stripped.endswith(".")
+    )
+
+
+def looks_like_heading(line: str) -> bool:
+    """A line standing alone as a paragraph that reads as a title rather than a
+    sentence: short, starts with a capital or a section number, does not end
+    like a sentence, and is not a list item or a 'Key: value' line."""
+    stripped = line.strip()
+    if not stripped or len(stripped) > _MAX_HEADING_CHARS:
+        return False
+    if len(stripped.split()) > _MAX_HEADING_WORDS or stripped.endswith(_TERMINAL_PUNCTUATION):
+        return False
+    if is_metadata_line(stripped) or not any(char.isalpha() for char in stripped):
+        return False
+    if is_list_item(stripped) and not re.match(r"^\d+(\.\d+)*\.?\s+[A-Z]", stripped):
+        return False
+    return stripped[0].isupper() or stripped[0].isdigit()
