@@ -98,18 +98,25 @@ class Store:
         rows = list(self.db["documents"].rows_where("record_key = ? and sha256 = ?", [record_key, sha256]))
         return rows[0] if rows else None
 
-    def add_document(self, document: Document, segmentation: Segmentation, run_id: int) -> tuple[int, bool]:
+    def add_document(self, document: Document, segmentation: Segmentation | None, run_id: int) -> tuple[int, bool]:
         """Store a document unless the same record with the same content is there.
 
         Returns ``(document_id, added)``. A record whose content changed gets a new row;
         the earlier version stays, marked ``replaced``, with its summaries. Content
-        already stored under another record key is marked ``duplicate`` of it.
+        already stored under another record key is marked ``duplicate`` of it. A
+        record seen again after being marked ``missing`` becomes ``active`` again.
+        ``segmentation`` may be None only when the document is already stored.
         """
         existing = self.find_document(document.record_key, document.sha256)
         if existing is not None:
+            changes = {"last_run": run_id}
+            if existing["status"] == "missing":
+                changes["status"] = "active"
             with self.transaction():
-                self.db["documents"].update(existing["id"], {"last_run": run_id})
+                self.db["documents"].update(existing["id"], changes)
             return existing["id"], False
+        if segmentation is None:
+            raise ValueError(f"{document.record_key}: a new document needs its segmentation")
         with self.transaction():
             twin = self.db.execute(
                 "select id from documents where sha256 = ? and record_key != ? and status = 'active' "
@@ -156,6 +163,11 @@ class Store:
                     {"document_id": document_id, "text": document.reference_summary, "source": document.reference_source}
                 )
         return document_id, True
+
+    def mark_missing(self, document_id: int) -> None:
+        """The file behind a stored document is gone: keep everything, say so."""
+        with self.transaction():
+            self.db["documents"].update(document_id, {"status": "missing"})
 
     def record_problem(self, run_id: int, path: str, kind: str, reason: str) -> None:
         with self.transaction():

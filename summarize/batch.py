@@ -2,30 +2,48 @@
 
     report = run_archive(["archive/"], "store.sqlite", methods=["lead", "tfidf"])
 
-Each document is written in its own small transaction, so an interrupted run loses
-at most the document in flight, and a rerun does only what is missing (document
-content hash + method + parameter hash).
+Two passes, one direction:
+
+1. *Read*: every file is read, split and stored (one small transaction per document)
+   unless the same record with the same content hash is already stored. Unreadable
+   files are recorded with their reason; stored records whose file has gone are
+   marked ``missing``, never deleted.
+2. *Summarize*: archive-wide statistics are fitted on the documents read (TF-IDF's
+   IDF), then every (document, method, parameter hash) not yet stored is computed —
+   here, in worker processes, or on a Dask cluster — and written by this process
+   alone, one document per transaction.
+
+So an interrupted run loses at most the documents in flight, and a rerun does only
+what is missing. The run stops cleanly between documents at its time budget or on
+SIGINT/SIGTERM, and says how much remains.
 """
 
 from __future__ import annotations
 
-import sys
+import os
 import time
-from collections.abc import Callable, Iterable
+from collections.abc import Iterable
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from store.writes import Store
 from summarize.budget import Budget
-from summarize.document import Document, Segmentation, param_hash
+from summarize.document import Document, Segmentation, Span, param_hash
+from summarize.executors import make_executor
 from summarize.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.ingest import IngestProblem, RecordFields, iter_archive
+from summarize.progress import Progress
+from summarize.runcontrol import StopConditions
+from summarize.runlock import StoreLock
 from summarize.split import split_document
 
 # Exit statuses of `summarize run` (documented in the README).
 EXIT_OK = 0
 EXIT_FAILED = 1
 EXIT_SOME_FILES_FAILED = 3
+EXIT_STOPPED_EARLY = 4
+
+METHOD_NAMES = (*EXTRACTIVE_METHODS, "seq2seq")
 
 
 @dataclass
@@ -36,15 +54,21 @@ class RunReport:
     documents_seen: int = 0
     documents_added: int = 0
     duplicates: int = 0
+    missing: int = 0
     summaries_added: int = 0
     summaries_skipped: int = 0
+    documents_remaining: int = 0
+    stop_reason: str | None = None
     errors: list[str] = field(default_factory=list)
     skipped_files: list[str] = field(default_factory=list)
     failed_summaries: list[str] = field(default_factory=list)
     seconds: float = 0.0
+    documents_summarized: int = 0
 
     @property
     def exit_status(self) -> int:
+        if self.stop_reason:
+            return EXIT_STOPPED_EARLY
         return EXIT_SOME_FILES_FAILED if self.errors or self.failed_summaries else EXIT_OK
 
     def counts(self) -> dict:
@@ -52,32 +76,135 @@ class RunReport:
             "documents_seen": self.documents_seen,
             "documents_added": self.documents_added,
             "duplicates": self.duplicates,
+            "missing": self.missing,
             "summaries_added": self.summaries_added,
             "summaries_skipped": self.summaries_skipped,
+            "documents_summarized": self.documents_summarized,
+            "documents_remaining": self.documents_remaining,
             "files_failed": len(self.errors),
             "files_skipped": len(self.skipped_files),
             "summaries_failed": len(self.failed_summaries),
+            "stop_reason": self.stop_reason,
             "seconds": round(self.seconds, 3),
+            "documents_per_second": round(self.documents_summarized / self.seconds, 3) if self.seconds else None,
         }
 
 
-def build_methods(names: Iterable[str], budget: Budget, mmr_lambda: float | None = None, **extra) -> list:
-    """Instantiate the named methods with a shared budget."""
+def build_methods(
+    names: Iterable[str],
+    budget: Budget = DEFAULT_BUDGET,
+    mmr_lambda: float | None = None,
+    seq2seq_options: dict | None = None,
+) -> list:
+    """Instantiate the named methods with a shared budget. ``seq2seq`` takes its
+    model and generation settings from ``seq2seq_options``."""
     methods = []
     for name in names:
+        if name == "seq2seq":
+            from summarize.abstractive import Seq2SeqSummarizer
+
+            methods.append(Seq2SeqSummarizer(**(seq2seq_options or {})))
+            continue
         if name not in EXTRACTIVE_METHODS:
-            known = ", ".join(sorted(EXTRACTIVE_METHODS))
-            raise ValueError(f"unknown method {name!r} (known: {known})")
-        cls = EXTRACTIVE_METHODS[name]
+            raise ValueError(f"unknown method {name!r} (known: {', '.join(METHOD_NAMES)})")
         kwargs = {"budget": budget}
         if name in ("tfidf", "textrank"):
             kwargs["mmr_lambda"] = mmr_lambda
-        methods.append(cls(**kwargs))
+        methods.append(EXTRACTIVE_METHODS[name](**kwargs))
     return methods
 
 
-def _say(message: str) -> None:
-    print(message, file=sys.stderr, flush=True)
+def load_document(store: Store, document_id: int) -> tuple[Document, Segmentation]:
+    """Rebuild a stored document and its segmentation (no re-reading, no re-splitting)."""
+    row = store.db["documents"].get(document_id)
+    reference = store.db.execute(
+        "select text, source from reference_summaries where document_id = ?", [document_id]
+    ).fetchone()
+    document = Document(
+        record_key=row["record_key"],
+        path=row["path"],
+        text=row["text"],
+        format=row["format"],
+        sha256=row["sha256"],
+        size=row["size"],
+        title=row["title"],
+        date=row["date"],
+        encoding=row["encoding"],
+        reference_summary=reference[0] if reference else None,
+        reference_source=reference[1] if reference else None,
+    )
+    sentences, owners, headings = [], [], []
+    for start, end, paragraph, heading in store.db.execute(
+        "select start, end, paragraph, is_heading from document_sentences where document_id = ? order by position",
+        [document_id],
+    ).fetchall():
+        sentences.append(Span(start, end))
+        owners.append(paragraph)
+        headings.append(bool(heading))
+    paragraphs: dict[int, Span] = {}
+    for span, owner in zip(sentences, owners):
+        known = paragraphs.get(owner)
+        paragraphs[owner] = Span(min(span.start, known.start), max(span.end, known.end)) if known else span
+    document.headings = [s for s, h in zip(sentences, headings) if h]
+    return document, Segmentation(
+        paragraphs=tuple(paragraphs[k] for k in sorted(paragraphs)),
+        sentences=tuple(sentences),
+        sentence_paragraph=tuple(owners),
+        sentence_is_heading=tuple(headings),
+    )
+
+
+def _under(record_key: str, roots: list[str]) -> bool:
+    path = record_key.split("#", 1)[0]
+    return any(path == root or path.startswith(root.rstrip(os.sep) + os.sep) for root in roots)
+
+
+def _read_archive(store, run_id, paths, fields, report, progress, stop) -> list[int]:
+    """Pass 1. Returns the ids of the current, non-duplicate documents seen."""
+    seen_keys: set[str] = set()
+    document_ids: list[int] = []
+    walked_everything = True
+    for item in iter_archive(paths, fields):
+        if stop.reason():
+            walked_everything = False
+            break
+        if isinstance(item, IngestProblem):
+            store.record_problem(run_id, item.path, item.kind, item.reason)
+            if item.kind == "error":
+                report.errors.append(str(item))
+                progress.message(f"error: {item}")
+            else:
+                report.skipped_files.append(str(item))
+            continue
+        seen_keys.add(item.record_key)
+        existing = store.find_document(item.record_key, item.sha256)
+        if existing is not None:
+            document_id, added = store.add_document(item, None, run_id)
+        else:
+            try:
+                segmentation = split_document(item)
+            except Exception as error:  # one file's splitter fault must not stop the batch
+                reason = f"could not split into sentences ({error})"
+                store.record_problem(run_id, item.record_key, "error", reason)
+                report.errors.append(f"{item.record_key}: {reason}")
+                progress.message(f"error: {item.record_key}: {reason}")
+                continue
+            document_id, added = store.add_document(item, segmentation, run_id)
+        report.documents_seen += 1
+        report.documents_added += int(added)
+        if store.db["documents"].get(document_id)["status"] == "duplicate":
+            report.duplicates += 1
+            continue
+        document_ids.append(document_id)
+    if walked_everything:
+        roots = [str(p) for p in paths]
+        for row in store.db.execute(
+            "select id, record_key from documents where status = 'active'"
+        ).fetchall():
+            if row[1] not in seen_keys and _under(row[1], roots):
+                store.mark_missing(row[0])
+                report.missing += 1
+    return document_ids
 
 
 def run_archive(
@@ -87,82 +214,128 @@ def run_archive(
     budget: Budget = DEFAULT_BUDGET,
     mmr_lambda: float | None = None,
     fields: RecordFields = RecordFields(),
-    progress: Callable[[str], None] | None = _say,
+    seq2seq_options: dict | None = None,
     summarizers: list | None = None,
+    workers: int = 1,
+    scheduler: str | None = None,
+    stop: StopConditions | None = None,
+    lock_wait_seconds: float = 0.0,
+    progress: Progress | None = None,
+    config_extra: dict | None = None,
 ) -> RunReport:
     """Summarize every document under ``paths`` into the store at ``db_path``.
 
     ``summarizers`` may pass ready-made method objects instead of names (they must
-    offer ``name``, ``get_params``, ``fit`` and ``summarize``).
+    offer ``name``, ``get_params``, ``fit`` and ``summarize``). Raises
+    :class:`~summarize.runlock.StoreLocked` when another run holds the store.
     """
     paths = [str(p) for p in paths]
     started = time.perf_counter()
-    active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda)
-    store = Store(db_path)
-    config = {
-        "paths": paths,
-        "methods": {m.name: m.get_params() for m in active},
-        "record_fields": asdict(fields),
-    }
-    run_id = store.begin_run("run", config)
-    report = RunReport(run_id=run_id)
-    status = "failed"
-    try:
-        documents: list[tuple[Document, Segmentation]] = []
-        for item in iter_archive(paths, fields):
-            if isinstance(item, IngestProblem):
-                store.record_problem(run_id, item.path, item.kind, item.reason)
-                if item.kind == "error":
-                    report.errors.append(str(item))
-                    if progress:
-                        progress(f"error: {item}")
-                else:
-                    report.skipped_files.append(str(item))
-                continue
-            try:
-                segmentation = split_document(item)
-            except Exception as error:  # a splitter fault on one file must not stop the batch
-                reason = f"could not split into sentences ({error})"
-                store.record_problem(run_id, item.record_key, "error", reason)
-                report.errors.append(f"{item.record_key}: {reason}")
-                continue
-            documents.append((item, segmentation))
-        report.documents_seen = len(documents)
-        if progress:
-            progress(f"read {len(documents)} documents, {len(report.errors)} unreadable files")
-
-        # Archive-wide statistics (TF-IDF's IDF) are fitted once, on every document read.
-        texts = [document.text for document, _ in documents]
-        for method in active:
-            method.fit(texts)
-
-        for number, (document, segmentation) in enumerate(documents, 1):
-            document_id, added = store.add_document(document, segmentation, run_id)
-            report.documents_added += int(added)
-            row = store.db["documents"].get(document_id)
-            if row["status"] == "duplicate":
-                report.duplicates += 1
-                continue
-            for method in active:
-                params_hash = param_hash(method.name, method.get_params())
-                if store.has_summary(document_id, method.name, params_hash):
-                    report.summaries_skipped += 1
-                    continue
-                try:
-                    summary = method.summarize(document, segmentation)
-                except Exception as error:  # one document's failure is recorded; the run goes on
-                    reason = f"{method.name} failed: {error}"
-                    store.record_problem(run_id, document.record_key, "error", reason)
-                    report.failed_summaries.append(f"{document.record_key}: {reason}")
-                    continue
-                store.add_summary(document_id, run_id, summary)
-                report.summaries_added += 1
-            if progress and (number % 25 == 0 or number == len(documents)):
-                progress(f"summarized {number}/{len(documents)} documents")
-        status = "completed"
-    finally:
-        report.seconds = time.perf_counter() - started
-        store.finish_run(run_id, status, report.counts())
-        store.close()
+    progress = progress or Progress()
+    stop = stop or StopConditions()
+    active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds), stop:
+        store = Store(db_path)
+        config = {
+            "paths": paths,
+            "methods": {m.name: m.get_params() for m in active},
+            "record_fields": asdict(fields),
+            "workers": workers,
+            "scheduler": scheduler,
+            "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
+            **(config_extra or {}),
+        }
+        run_id = store.begin_run("run", config)
+        report = RunReport(run_id=run_id)
+        status = "failed"
+        try:
+            document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop)
+            progress.message(
+                f"read {report.documents_seen} documents ({report.documents_added} new, "
+                f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"
+            )
+            if not stop.reason():
+                _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
+            report.stop_reason = stop.reason()
+            status = "stopped" if report.stop_reason else "completed"
+        finally:
+            report.seconds = time.perf_counter() - started
+            store.finish_run(run_id, status, report.counts())
+            store.close()
+            progress.close()
     return report
 
+
+def _pending_methods(store: Store, document_id: int, active: list) -> list:
+    return [
+        method for method in active
+        if not store.has_summary(document_id, method.name, param_hash(method.name, method.get_params()))
+    ]
+
+
+def _stored_texts(store: Store, document_ids: list[int]):
+    for document_id in document_ids:
+        yield store.db.execute("select text from documents where id = ?", [document_id]).fetchone()[0]
+
+
+def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
+    """Pass 2: fit archive statistics, then compute and store what is missing."""
+    todo: dict[int, set[str]] = {}
+    for document_id in document_ids:
+        pending = _pending_methods(store, document_id, active)
+        report.summaries_skipped += len(active) - len(pending)
+        if pending:
+            todo[document_id] = {m.name for m in pending}
+    if not todo:
+        progress.message("nothing to summarize: every summary is already stored")
+        return
+    for method in active:
+        method.fit(_stored_texts(store, document_ids))
+    # Methods that generate in batches (seq2seq) run in this process, after the others.
+    batched = [m for m in active if hasattr(m, "summarize_many")]
+    per_document = [m for m in active if not hasattr(m, "summarize_many")]
+    per_document_names = {m.name for m in per_document}
+    progress.start(len(todo))
+
+    def finished(document_id: int, names: set[str]) -> None:
+        todo[document_id] -= names
+        if not todo[document_id]:
+            del todo[document_id]
+            report.documents_summarized += 1
+            progress.advance()
+
+    jobs = (
+        (document_id, load_document(store, document_id), sorted(names & per_document_names))
+        for document_id, names in list(todo.items())
+        if names & per_document_names
+    )
+    with make_executor(per_document, workers=workers, scheduler=scheduler) as executor:
+        for document_id, document, outcomes in executor.map_documents(jobs, stop):
+            _store_outcomes(store, run_id, document_id, document, outcomes, report, progress)
+            finished(document_id, {name for name, _ in outcomes})
+    for method in batched:
+        wanted = [d for d, names in todo.items() if method.name in names]
+        size = getattr(method, "batch_documents", 16)
+        for start in range(0, len(wanted), size):
+            if stop.reason():
+                break
+            chunk = wanted[start : start + size]
+            loaded = [load_document(store, document_id) for document_id in chunk]
+            for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
+                _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
+                finished(document_id, {method.name})
+    report.documents_remaining = len(todo)
+    if todo and stop.reason():
+        progress.message(f"{stop.reason()}: {len(todo)} documents remain; rerun the same command to finish them")
+
+
+def _store_outcomes(store, run_id, document_id, document, outcomes, report, progress) -> None:
+    for method_name, outcome in outcomes:
+        if isinstance(outcome, Exception):
+            reason = f"{method_name} failed: {outcome}"
+            store.record_problem(run_id, document.record_key, "error", reason)
+            report.failed_summaries.append(f"{document.record_key}: {reason}")
+            progress.message(f"error: {document.record_key}: {reason}")
+            continue
+        store.add_summary(document_id, run_id, outcome)
+        report.summaries_added += 1

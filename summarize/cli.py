@@ -19,6 +19,10 @@ from store.schema import open_database
 from summarize.batch import EXIT_FAILED, run_archive
 from summarize.budget import Budget
 from summarize.ingest import RecordFields
+from summarize.jobfile import load_job
+from summarize.progress import Progress, configure_log_file
+from summarize.runcontrol import StopConditions, parse_until
+from summarize.runlock import StoreLocked
 
 
 def _fail(message: str) -> None:
@@ -50,49 +54,95 @@ def main() -> None:
     """
 
 
+def _load_job_defaults(ctx, _param, value):
+    """--job FILE: settings from a TOML job file become the defaults of `run`."""
+    if not value:
+        return None
+    try:
+        job = load_job(value)
+    except ValueError as error:
+        raise click.BadParameter(str(error)) from None
+    ctx.default_map = {**(ctx.default_map or {}), **{k: v for k, v in job.items() if k not in ("paths", "seq2seq")}}
+    ctx.meta["job"] = job
+    return value
+
+
 @main.command()
-@click.argument("paths", nargs=-1, required=True, type=click.Path())
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False), help="SQLite store (created if missing).")
+@click.argument("paths", nargs=-1, type=click.Path())
+@click.option("--job", type=click.Path(dir_okay=False), callback=_load_job_defaults, is_eager=True, expose_value=False,
+              help="TOML job file with the run's settings; flags given here override it.")
+@click.option("--db", "db", type=click.Path(dir_okay=False), help="SQLite store (created if missing).")
 @click.option("--methods", default="lead,tfidf,textrank", show_default=True, help="Comma-separated methods.")
 @click.option("--budget", default="3", show_default=True, callback=_budget,
               help="Summary length: '3' sentences, '80w' words or '10%' of the document.")
-@click.option("--mmr", "mmr_lambda", type=click.FloatRange(0, 1), default=None,
+@click.option("--mmr", type=click.FloatRange(0, 1), default=None,
               help="MMR redundancy control for tfidf/textrank: λ in [0, 1] (1 = relevance only).")
+@click.option("--workers", default=1, show_default=True, type=click.IntRange(1),
+              help="Local worker processes for the per-document work (the store has one writer).")
+@click.option("--scheduler", default=None, help="Address of a Dask scheduler (tcp://HOST:PORT) to send the work to.")
+@click.option("--until", default=None, help="Stop cleanly between documents at this local time (HH:MM).")
+@click.option("--max-minutes", default=None, type=click.FloatRange(0, min_open=True), help="Stop cleanly after this many minutes.")
+@click.option("--wait-lock", default=0.0, type=click.FloatRange(0), show_default=True,
+              help="Seconds to wait for another run holding the store, instead of refusing at once.")
+@click.option("--log", default=None, type=click.Path(dir_okay=False), help="Also append progress and errors to this file.")
+@click.option("--quiet", is_flag=True, help="Only errors on stderr.")
 @click.option("--text-field", default="text", show_default=True, help="JSON/JSONL field holding the text.")
 @click.option("--title-field", default="title", show_default=True, help="JSON/JSONL field holding the title.")
 @click.option("--summary-field", default="summary", show_default=True, help="JSON/JSONL field holding the reference summary.")
 @click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
 @click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
 @click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
-def run(paths, db_path, methods, budget, mmr_lambda, text_field, title_field, summary_field, date_field, id_field, as_json):
+@click.pass_context
+def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
+        text_field, title_field, summary_field, date_field, id_field, as_json):
     """Read every document under PATHS, summarize it with each method, store it.
 
-    Exit status: 0 all done; 1 nothing could be done (bad store, bad option);
-    3 finished, but some files or summaries failed (listed on stderr and in the store).
+    A rerun does only what is missing. Exit status: 0 all done; 1 nothing could be
+    done (bad option, store locked or unusable); 3 finished, but some files or
+    summaries failed (listed on stderr and in the store); 4 stopped early by the time
+    budget or a signal (rerun to finish).
     """
+    job = ctx.meta.get("job", {})
+    paths = list(paths) or job.get("paths", [])
+    if not paths:
+        raise click.UsageError("give at least one PATH (or a --job file with paths)")
+    if not db:
+        raise click.UsageError("--db is required (or a --job file with db)")
+    configure_log_file(log)
     fields = RecordFields(text=text_field, title=title_field, summary=summary_field, date=date_field, id=id_field)
+    seq2seq_options = dict(job.get("seq2seq", {}))
     try:
+        stop = StopConditions(until=parse_until(until) if until else None, max_minutes=max_minutes)
         report = run_archive(
             paths,
-            db_path,
+            db,
             methods=[m.strip() for m in methods.split(",") if m.strip()],
             budget=budget,
-            mmr_lambda=mmr_lambda,
+            mmr_lambda=mmr,
             fields=fields,
+            seq2seq_options=seq2seq_options,
+            workers=workers,
+            scheduler=scheduler,
+            stop=stop,
+            lock_wait_seconds=wait_lock,
+            progress=Progress(quiet=quiet),
         )
-    except ValueError as error:
+    except (ValueError, StoreLocked, RuntimeError) as error:
         _fail(str(error))
+    counts = report.counts()
     if as_json:
-        click.echo(json.dumps({"run_id": report.run_id, **report.counts(), "errors": report.errors}, indent=2))
+        click.echo(json.dumps({"run_id": report.run_id, **counts, "errors": report.errors}, indent=2))
     else:
-        counts = report.counts()
+        rate = f", {counts['documents_per_second']:.2f} documents/s" if counts["documents_per_second"] else ""
         click.echo(
-            f"run {report.run_id}: {counts['documents_seen']} documents "
-            f"({counts['documents_added']} new, {counts['duplicates']} duplicates), "
-            f"{counts['summaries_added']} summaries added, {counts['summaries_skipped']} already stored, "
-            f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped "
-            f"in {counts['seconds']:.1f}s"
+            f"run {report.run_id}: {counts['documents_seen']} documents read "
+            f"({counts['documents_added']} new, {counts['duplicates']} duplicates, {counts['missing']} gone from disk); "
+            f"{counts['summaries_added']} summaries added, {counts['summaries_skipped']} already stored; "
+            f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped, "
+            f"{counts['documents_remaining']} documents remaining; {counts['seconds']:.1f}s{rate}"
         )
+        if report.stop_reason:
+            click.echo(f"stopped early ({report.stop_reason}); rerun the same command to finish", err=True)
     sys.exit(report.exit_status)
 
 

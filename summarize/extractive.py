@@ -11,6 +11,7 @@ document position, so every method is deterministic.
 from __future__ import annotations
 
 import time
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -109,7 +110,7 @@ class LeadSummarizer:
     def get_params(self) -> dict:
         return {"budget": self.budget.as_dict(), "min_words": self.min_words}
 
-    def fit(self, texts: list[str]) -> LeadSummarizer:
+    def fit(self, texts: Iterable[str]) -> LeadSummarizer:
         return self
 
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
@@ -155,12 +156,15 @@ class TfidfSummarizer:
             "sublinear_tf": self.sublinear_tf,
         }
 
-    def fit(self, texts: list[str]) -> TfidfSummarizer:
-        """Fit IDF over the archive: one entry of ``texts`` per document."""
+    def fit(self, texts: Iterable[str]) -> TfidfSummarizer:
+        """Fit IDF over the archive: one entry of ``texts`` per document (streamed once)."""
         self.vectorizer_ = TfidfVectorizer(
             stop_words=self.stop_words, sublinear_tf=self.sublinear_tf, smooth_idf=True, norm="l2"
         )
-        self.vectorizer_.fit(texts if any(t.strip() for t in texts) else ["empty"])
+        try:
+            self.vectorizer_.fit(texts)
+        except ValueError:  # an archive without a single content word
+            self.vectorizer_.fit(["empty"])
         return self
 
     def sentence_scores(self, document: Document, segmentation: Segmentation) -> tuple[np.ndarray, sparse.csr_matrix]:
@@ -219,7 +223,7 @@ class TextRankSummarizer:
             "mmr_lambda": self.mmr_lambda,
         }
 
-    def fit(self, texts: list[str]) -> TextRankSummarizer:
+    def fit(self, texts: Iterable[str]) -> TextRankSummarizer:
         return self
 
     def similarity_graph(self, sentences: list[str]) -> sparse.csr_matrix:

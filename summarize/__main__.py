@@ -1,0 +1,3 @@
+from summarize.cli import main
+
+main()

@@ -1,0 +1,156 @@
+"""Where per-document work runs: in this process, in local worker processes, or on an
+existing Dask distributed cluster. Only the calling process ever writes the store;
+workers receive a document and its segmentation and return summaries (or the error).
+
+Every executor keeps a bounded number of documents in flight, so a stop request is
+honoured after those few finish, and memory does not grow with the archive.
+"""
+
+from __future__ import annotations
+
+from abc import ABC, abstractmethod
+from collections.abc import Iterable, Iterator
+from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+
+from summarize.document import Document, Segmentation
+
+Job = tuple[int, tuple[Document, Segmentation], list[str]]
+Outcome = tuple[int, Document, list[tuple[str, object]]]
+
+_worker_methods: dict = {}
+
+
+def summarize_document(methods: dict, document: Document, segmentation: Segmentation, names: list[str]) -> list:
+    """Run the named methods on one document; a failure becomes that method's outcome
+    (as a plain RuntimeError, which pickles across processes and hosts)."""
+    outcomes = []
+    for name in names:
+        try:
+            outcomes.append((name, methods[name].summarize(document, segmentation)))
+        except Exception as error:
+            outcomes.append((name, RuntimeError(f"{type(error).__name__}: {error}")))
+    return outcomes
+
+
+def _init_worker(methods: list) -> None:
+    global _worker_methods
+    _worker_methods = {method.name: method for method in methods}
+
+
+def _work_in_worker(document: Document, segmentation: Segmentation, names: list[str]) -> list:
+    return summarize_document(_worker_methods, document, segmentation, names)
+
+
+class InProcessExecutor:
+    def __init__(self, methods: list):
+        self.methods = {method.name: method for method in methods}
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc) -> None:
+        pass
+
+    def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
+        for document_id, (document, segmentation), names in jobs:
+            if stop.reason():
+                return
+            yield document_id, document, summarize_document(self.methods, document, segmentation, names)
+
+
+class _WindowedExecutor(ABC):
+    """Shared submit/collect loop: at most ``window`` documents in flight."""
+
+    window = 4
+
+    @abstractmethod
+    def _submit(self, document: Document, segmentation: Segmentation, names: list[str]):
+        """Start one document's work; return a future."""
+
+    @abstractmethod
+    def _wait_any(self, futures: set) -> set:
+        """Block until at least one future is done; return the done ones."""
+
+    def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
+        in_flight: dict = {}
+        jobs = iter(jobs)
+        exhausted = False
+        while True:
+            while not exhausted and len(in_flight) < self.window and not stop.reason():
+                job = next(jobs, None)
+                if job is None:
+                    exhausted = True
+                    break
+                document_id, (document, segmentation), names = job
+                in_flight[self._submit(document, segmentation, names)] = (document_id, document)
+            if not in_flight:
+                return
+            for future in self._wait_any(set(in_flight)):
+                document_id, document = in_flight.pop(future)
+                yield document_id, document, future.result()
+
+
+class ProcessExecutor(_WindowedExecutor):
+    """Local worker processes; the fitted methods are sent to each worker once."""
+
+    def __init__(self, methods: list, workers: int):
+        self.methods = methods
+        self.workers = workers
+        self.window = 2 * workers
+
+    def __enter__(self):
+        self.pool = ProcessPoolExecutor(max_workers=self.workers, initializer=_init_worker, initargs=(self.methods,))
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.pool.shutdown(wait=True, cancel_futures=True)
+
+    def _submit(self, document, segmentation, names):
+        return self.pool.submit(_work_in_worker, document, segmentation, names)
+
+    def _wait_any(self, futures):
+        return wait(futures, return_when=FIRST_COMPLETED).done
+
+
+class DaskExecutor(_WindowedExecutor):
+    """An existing Dask distributed cluster at ``address`` (``tcp://host:8786``).
+
+    The fitted methods are scattered to every worker once; documents are submitted
+    a window at a time; results come back to this process, which alone writes.
+    """
+
+    def __init__(self, methods: list, address: str, window: int = 32):
+        self.methods = methods
+        self.address = address
+        self.window = window
+
+    def __enter__(self):
+        from distributed import Client
+
+        try:
+            self.client = Client(self.address, timeout="20s")
+        except OSError as error:
+            raise RuntimeError(f"cannot reach the Dask scheduler at {self.address}: {error}") from None
+        by_name = {method.name: method for method in self.methods}
+        [self.methods_future] = self.client.scatter([by_name], broadcast=True)
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.client.close()
+
+    def _submit(self, document, segmentation, names):
+        return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
+
+    def _wait_any(self, futures):
+        from distributed import wait as dask_wait
+
+        return dask_wait(list(futures), return_when="FIRST_COMPLETED").done
+
+
+def make_executor(methods: list, workers: int = 1, scheduler: str | None = None):
+    """Pick the executor for a run's ``--workers`` / ``--scheduler`` settings."""
+    if scheduler:
+        return DaskExecutor(methods, scheduler)
+    if workers > 1:
+        return ProcessExecutor(methods, workers)
+    return InProcessExecutor(methods)
