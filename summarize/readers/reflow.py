@@ -12,7 +12,9 @@ larger or bolder font). Heuristics, in order:
   end of a line between two lowercase letters is taken for a word broken by
   hyphenation and removed ('inspec-' + 'tion' -> 'inspection'). This is a
   heuristic: a real compound split at its hyphen ('follow-' + 'up') loses its
-  hyphen too. A soft hyphen (U+00AD) at a line end always joins.
+  hyphen too. Any other hyphen attached to a word is kept and the lines joined
+  without a space ('non-' + 'European' -> 'non-European'). A soft hyphen
+  (U+00AD) at a line end always joins.
 * Each list item starts a new line of its list block; its wrapped continuation
   lines join it.
 """
@@ -89,8 +91,10 @@ def join_wrapped(first: str, second: str) -> str:
     """Join two lines of one paragraph, repairing line-break hyphenation."""
     if first.endswith("\u00ad"):
         return first[:-1] + second
-    if len(first) >= 2 and first.endswith("-") and first[-2].islower() and second[:1].islower():
-        return first[:-1] + second
+    if len(first) >= 2 and first.endswith("-") and first[-2].isalnum():
+        if first[-2].islower() and second[:1].islower():
+            return first[:-1] + second
+        return first + second
     return first + " " + second
 
 
