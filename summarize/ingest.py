@@ -119,6 +119,9 @@ def iter_archive(
             yield IngestProblem(str(path), "no such file or directory", "error")
             continue
         for file in _walk(path, set()) if path.is_dir() else [path]:
+            if isinstance(file, IngestProblem):
+                yield file
+                continue
             resolved = file.resolve()
             if resolved in seen:
                 continue
@@ -149,17 +152,18 @@ def _problem_within(problem: IngestProblem, key: str) -> str:
     return str(problem)
 
 
-def _walk(directory: Path, visited: set[Path]) -> Iterator[Path]:
+def _walk(directory: Path, visited: set[Path]) -> Iterator[Path | IngestProblem]:
     """Files under a folder, depth first, sorted by name, hidden names skipped;
-    a folder reached twice through links is walked once."""
+    a folder reached twice through links is walked once; a folder that cannot be
+    listed is a problem."""
     real = directory.resolve()
     if real in visited:
         return
     visited.add(real)
     try:
         entries = sorted(directory.iterdir(), key=lambda entry: entry.name)
-    except OSError:
-        yield directory
+    except OSError as exc:
+        yield IngestProblem(str(directory), f"cannot list folder ({exc.strerror or exc})", "error")
         return
     for entry in entries:
         if entry.name.startswith("."):

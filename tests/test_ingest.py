@@ -330,6 +330,22 @@ def test_email_html_body_is_read_as_html(tmp_path):
     assert document.text == "Pump two tripped.\n\nCrew sent."
 
 
+def test_email_with_unknown_charset_is_decoded_from_its_bytes(tmp_path):
+    raw = (
+        b"From: dana@example.invalid\r\nSubject: Valve\r\nMIME-Version: 1.0\r\n"
+        b"Content-Type: text/plain; charset=x-no-such-charset\r\nContent-Transfer-Encoding: 8bit\r\n\r\n"
+        + "Valve r\u00e9paration done.\r\n".encode("cp1252")
+    )
+    document = only(write(tmp_path / "valve.eml", raw))
+    assert document.text == "Valve r\u00e9paration done."
+    assert document.encoding == "cp1252"
+
+
+def test_file_that_is_not_an_email_is_named(tmp_path):
+    with pytest.raises(UnreadableFile, match=r": not an e-mail message \(no From, To, Subject or Date header\)$"):
+        read_file(write(tmp_path / "note.eml", "just some words\nwithout headers\n"))
+
+
 # ---------------------------------------------------------------- json / jsonl
 
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 import io
 import re
 import zipfile
+import zlib
 
 import docx
 from docx.document import Document as WordDocument
@@ -71,7 +72,7 @@ def _open(raw: bytes) -> WordDocument:
         raise ReadError("not a valid DOCX file (bad zip)")
     try:
         return docx.Document(io.BytesIO(raw))
-    except (PackageNotFoundError, KeyError, ValueError, zipfile.BadZipFile, etree.XMLSyntaxError) as exc:
+    except (PackageNotFoundError, KeyError, ValueError, zipfile.BadZipFile, zlib.error, etree.XMLSyntaxError) as exc:
         message = str(exc).strip().splitlines()
         detail = message[0] if message else type(exc).__name__
         raise ReadError(f"not a valid DOCX file ({detail})") from None

@@ -13,6 +13,7 @@ from email.parser import BytesParser
 
 from summarize.readers.blocks import Extract
 from summarize.readers.dates import iso_date
+from summarize.readers.decoding import decode_text
 from summarize.readers.errors import ReadError
 from summarize.readers.html import html_extract
 from summarize.readers.text import plain_text_blocks
@@ -30,13 +31,9 @@ def read_eml(raw: bytes) -> Extract:
     body_part = message.get_body(preferencelist=("plain", "html"))
     if body_part is None:
         raise ReadError("e-mail has no text body")
-    try:
-        body = body_part.get_content()
-    except (LookupError, UnicodeError) as exc:
-        raise ReadError(f"e-mail body cannot be decoded ({exc})") from None
+    body, encoding = _body_text(body_part)
     if not body.strip():
         raise ReadError("e-mail body is empty")
-    encoding = body_part.get_content_charset() or "us-ascii"
     if body_part.get_content_subtype() == "html":
         extract = html_extract(body, encoding)
     else:
@@ -45,6 +42,19 @@ def read_eml(raw: bytes) -> Extract:
     extract.date = iso_date(_header(message, "date"))
     extract.metadata.update(_metadata(message))
     return extract
+
+
+def _body_text(part: EmailMessage) -> tuple[str, str]:
+    """The body as text with the charset it declares; a missing or unknown
+    charset is worked out from the bytes like a text file's."""
+    try:
+        return part.get_content(), part.get_content_charset() or "us-ascii"
+    except (LookupError, UnicodeError):
+        payload = part.get_payload(decode=True) or b""
+        try:
+            return decode_text(payload)
+        except ReadError as exc:
+            raise ReadError(f"e-mail body: {exc}") from None
 
 
 def _header(message: EmailMessage, name: str) -> str | None:

@@ -35,11 +35,15 @@ logging.getLogger("pypdf").setLevel(logging.ERROR)
 
 def read_pdf(raw: bytes) -> Extract:
     reader = _open(raw)
-    if not reader.pages:
+    try:
+        pages = list(reader.pages)
+    except (PdfReadError, ValueError, KeyError, TypeError, AttributeError) as exc:
+        raise ReadError(f"not a valid PDF ({_first_line(exc)})") from None
+    if not pages:
         raise ReadError("PDF has no pages")
     lines: list[_StyledLine] = []
     unreadable_pages = []
-    for number, page in enumerate(reader.pages, start=1):
+    for number, page in enumerate(pages, start=1):
         try:
             lines.extend(_page_lines(page))
         except Exception:  # noqa: BLE001 - one damaged page should not lose the rest
@@ -49,7 +53,7 @@ def read_pdf(raw: bytes) -> Extract:
         raise ReadError("PDF has no text layer (scanned image?)")
     lines = [line for line in lines if not _PAGE_NUMBER.match(line.text) or not line.text.strip()]
     blocks = reflow(_mark_headings(lines))
-    metadata: dict = {"pages": len(reader.pages)}
+    metadata: dict = {"pages": len(pages)}
     if unreadable_pages:
         metadata["unreadable_pages"] = unreadable_pages
     info = _document_info(reader)
