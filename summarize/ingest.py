@@ -180,8 +180,7 @@ def _ingest(path: Path, fields: RecordFields) -> Iterator[Document | IngestProbl
             yield IngestProblem(str(path), "summary sidecar with no document of the same name beside it", "skipped")
         return
     if path.suffix.lower() not in SUPPORTED_SUFFIXES:
-        kind = f"'{path.suffix}'" if path.suffix else "(no suffix)"
-        yield IngestProblem(str(path), f"unsupported file type {kind}", "skipped")
+        yield IngestProblem(str(path), _unsupported(path), "skipped")
         return
     try:
         yield from _read(path, fields)
@@ -199,9 +198,11 @@ def _read(path: Path, fields: RecordFields) -> list[Document | IngestProblem]:
     it (bad records, an unreadable sidecar). Raises ``UnreadableFile`` when the
     file as a whole cannot be read."""
     key = str(path)
+    if path.is_dir():
+        raise UnreadableFile(key, "is a directory")
     file_format = _FORMAT_BY_SUFFIX.get(path.suffix.lower())
     if file_format is None:
-        raise UnreadableFile(key, f"unsupported file type '{path.suffix}'")
+        raise UnreadableFile(key, _unsupported(path))
     raw = _read_bytes(path)
     if not raw:
         raise UnreadableFile(key, "empty file")
@@ -218,13 +219,15 @@ def _read(path: Path, fields: RecordFields) -> list[Document | IngestProblem]:
     return [*problems, document]
 
 
+def _unsupported(path: Path) -> str:
+    return f"unsupported file type '{path.suffix}'" if path.suffix else "unsupported file type (no suffix)"
+
+
 def _read_bytes(path: Path) -> bytes:
     try:
         return path.read_bytes()
     except FileNotFoundError:
         raise UnreadableFile(str(path), "no such file or directory") from None
-    except IsADirectoryError:
-        raise UnreadableFile(str(path), "is a directory") from None
     except OSError as exc:
         raise UnreadableFile(str(path), f"cannot read file ({exc.strerror or exc})") from None
 

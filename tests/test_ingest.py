@@ -171,6 +171,13 @@ def test_html_keeps_content_and_drops_furniture(tmp_path):
         assert furniture not in document.text
 
 
+def test_html_labelled_latin1_is_read_as_cp1252(tmp_path):
+    page = '<html><head><meta charset="iso-8859-1"></head><body><p>Costs \u2013 \u20ac40</p></body></html>'
+    document = only(write(tmp_path / "costs.html", page.encode("cp1252")))
+    assert document.text == "Costs \u2013 \u20ac40"
+    assert document.encoding == "cp1252"
+
+
 def test_html_title_falls_back_to_first_h1(tmp_path):
     document = only(write(tmp_path / "page.htm", "<html><body><h1>Lock Gates</h1><p>Both gates leak.</p></body></html>"))
     assert document.title == "Lock Gates"
@@ -203,6 +210,36 @@ def test_pdf_text_layer_is_reflowed_with_title_date_and_headings(tmp_path):
     assert document.metadata["pages"] == 1
     assert document.encoding is None
     assert document.format == "pdf"
+
+
+class ReportWithRunningLines(FPDF):
+    def header(self):
+        self.set_font("Helvetica", size=9)
+        self.cell(0, 8, "Coastal Works Quarterly", new_x="LMARGIN", new_y="NEXT")
+
+    def footer(self):
+        self.set_y(-15)
+        self.set_font("Helvetica", size=9)
+        self.cell(0, 8, f"Page {self.page_no()}")
+
+
+def test_pdf_running_headers_and_page_numbers_are_dropped_and_paragraphs_cross_pages(tmp_path):
+    pdf = ReportWithRunningLines()
+    pdf.set_font("Helvetica", size=11)
+    wide = "The sea wall at the northern end was surveyed on foot during the spring low tides and"
+    for page, text in enumerate(["Survey notes.", "The groynes were counted.", "All were intact."]):
+        pdf.add_page()
+        pdf.set_font("Helvetica", size=11)
+        if page == 1:
+            pdf.multi_cell(0, 6, "showed no movement.", new_x="LMARGIN", new_y="NEXT")
+        pdf.multi_cell(0, 6, text, new_x="LMARGIN", new_y="NEXT")
+        if page == 0:
+            pdf.multi_cell(0, 6, wide, new_x="LMARGIN", new_y="NEXT")
+    document = only(write(tmp_path / "coast.pdf", bytes(pdf.output())))
+    assert document.text == (
+        f"Survey notes.\n\n{wide} showed no movement.\n\nThe groynes were counted.\n\nAll were intact."
+    )
+    assert document.metadata["pages"] == 3
 
 
 def test_pdf_without_title_metadata_uses_first_line(tmp_path):
@@ -506,6 +543,13 @@ def test_iter_archive_turns_unexpected_parser_errors_into_one_line_problems(tmp_
         str(tmp_path / "a.html"), "could not read HTML file (RuntimeError: parser lost its way)", "error"
     )
     assert document.text == "Still read."
+
+
+def test_read_file_names_unsupported_types_and_folders(tmp_path):
+    with pytest.raises(UnreadableFile, match=r"unsupported file type '\.xlsx'$"):
+        read_file(write(tmp_path / "sheet.xlsx", b"PK"))
+    with pytest.raises(UnreadableFile, match=r": is a directory$"):
+        read_file(tmp_path)
 
 
 def test_supported_suffixes_cover_every_format():

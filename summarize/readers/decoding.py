@@ -53,7 +53,7 @@ def decode_text(raw: bytes, declared: str | None = None) -> tuple[str, str]:
         raise ReadError("binary content, not text")
     candidates = ["utf-8"]
     if declared:
-        candidates.append(declared)
+        candidates.append(_as_web_encoding(declared))
     candidates.append("cp1252")
     for encoding in candidates:
         try:
@@ -96,6 +96,16 @@ def _utf16_by_nul_pattern(raw: bytes) -> str | None:
 def _control_ratio(raw: bytes) -> float:
     controls = len(raw) - len(raw.translate(None, _ODD_CONTROL_BYTES))
     return controls / len(raw)
+
+
+def _as_web_encoding(declared: str) -> str:
+    """Pages labelled Latin-1 or ASCII are in practice cp1252, which is how web
+    browsers read them too."""
+    try:
+        name = codecs.lookup(declared).name
+    except LookupError:
+        return declared
+    return "cp1252" if name in ("iso8859-1", "latin-1", "ascii") else name
 
 
 def _canonical_name(encoding: str) -> str:

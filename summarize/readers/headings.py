@@ -10,6 +10,7 @@ import re
 UNDERLINE = re.compile(r"^\s*([=\-~^*#+_.:'\"`])\1{2,}\s*$")
 LIST_ITEM = re.compile(r"^\s*(?:[-*+\u2022\u2023\u25aa\u25e6\u2013\u2043]\s+|\(?[0-9]{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
 METADATA_LINE = re.compile(r"^[A-Za-z][A-Za-z .\-/]{0,30}:\s+\S")
+_NUMBERED_TITLE = re.compile(r"^\d+(\.\d+)*\.?\s+[A-Z]")
 _TERMINAL_PUNCTUATION = tuple(".,;!?")
 _MAX_HEADING_CHARS = 80
 _MAX_HEADING_WORDS = 12
@@ -51,6 +52,6 @@ def looks_like_heading(line: str) -> bool:
         return False
     if is_metadata_line(stripped) or not any(char.isalpha() for char in stripped):
         return False
-    if is_list_item(stripped) and not re.match(r"^\d+(\.\d+)*\.?\s+[A-Z]", stripped):
+    if is_list_item(stripped) and not _NUMBERED_TITLE.match(stripped):
         return False
     return stripped[0].isupper() or stripped[0].isdigit()

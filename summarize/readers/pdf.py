@@ -3,9 +3,12 @@
 Lines are rebuilt from pypdf's text fragments so that each keeps its font size
 and weight: a short line set clearly larger (15% over the body size) or bold in
 a non-bold body is a heading, as is a short line in capitals or one naming a
-summary section. Lines that are only a page number are dropped. Pages are read
-as one stream so a paragraph may continue over a page break; see ``reflow`` for
-how lines become paragraphs.
+summary section. Lines that are only a page number are dropped, and so are
+running headers and footers (see ``_without_running_lines``). Pages are then
+read as one stream, so a paragraph may continue over a page break; see
+``reflow`` for how lines become paragraphs. A document-information title that
+is only a placeholder ('Untitled', 'Microsoft Word - x.docx') is ignored; the
+first block stands in for a missing title when it is short.
 """
 
 from __future__ import annotations
@@ -27,6 +30,12 @@ from summarize.readers.references import is_summary_heading
 
 _PAGE_NUMBER = re.compile(r"^\s*(?:-\s*\d+\s*-|(?:page\s+)?\d+(?:\s*(?:of|/)\s*\d+)?)\s*$", re.IGNORECASE)
 _HEADING_SIZE_RATIO = 1.15
+_MAX_TITLE_CHARS = 120
+# Lines at the top and bottom of a page checked for running headers and footers.
+_EDGE_LINES = 2
+_DIGITS = re.compile(r"\d+")
+# Producer names some tools put where the title belongs.
+_PLACEHOLDER_TITLE = re.compile(r"^(?:untitled|microsoft (?:word|powerpoint|excel) - .*|.*\.(?:docx?|pdf|odt|rtf))$", re.IGNORECASE)
 
 # pypdf logs every irregularity it works around; the batch reports problems as
 # one line per file instead.
@@ -41,17 +50,17 @@ def read_pdf(raw: bytes) -> Extract:
         raise ReadError(f"not a valid PDF ({_first_line(exc)})") from None
     if not pages:
         raise ReadError("PDF has no pages")
-    lines: list[_StyledLine] = []
+    page_lines: list[list[_StyledLine]] = []
     unreadable_pages = []
     for number, page in enumerate(pages, start=1):
         try:
-            lines.extend(_page_lines(page))
+            page_lines.append(_page_lines(page))
         except Exception:  # noqa: BLE001 - one damaged page should not lose the rest
             unreadable_pages.append(number)
-        lines.append(_StyledLine())  # page end
-    if not any(line.text.strip() for line in lines):
+    if not any(line.text.strip() for lines in page_lines for line in lines):
         raise ReadError("PDF has no text layer (scanned image?)")
-    lines = [line for line in lines if not _PAGE_NUMBER.match(line.text) or not line.text.strip()]
+    page_lines = [[line for line in lines if not _PAGE_NUMBER.match(line.text)] for lines in page_lines]
+    lines = [line for lines in _without_running_lines(page_lines) for line in lines]
     blocks = reflow(_mark_headings(lines))
     metadata: dict = {"pages": len(pages)}
     if unreadable_pages:
@@ -59,13 +68,40 @@ def read_pdf(raw: bytes) -> Extract:
     info = _document_info(reader)
     if info.get("author"):
         metadata["author"] = info["author"]
-    first_line = next((block.text for block in blocks), None)
+    first_block = blocks[0].text if blocks else ""
     return Extract(
         blocks=blocks,
-        title=info.get("title") or first_line,
+        title=info.get("title") or (first_block if len(first_block) <= _MAX_TITLE_CHARS else None),
         date=info.get("date"),
         metadata=metadata,
     )
+
+
+def _without_running_lines(pages: list[list[_StyledLine]]) -> list[list[_StyledLine]]:
+    """Drop running headers and footers: among the first and last few lines of
+    each page, those that recur (digits aside) on at least half the pages of a
+    document of three or more pages."""
+    if len(pages) < 3:
+        return pages
+    counts: Counter[str] = Counter()
+    for lines in pages:
+        counts.update({_running_key(line) for line in _page_edges(lines)})
+    threshold = len(pages) / 2
+    running = {key for key, count in counts.items() if count >= threshold}
+    kept_pages = []
+    for lines in pages:
+        dropped = {id(line) for line in _page_edges(lines) if _running_key(line) in running}
+        kept_pages.append([line for line in lines if id(line) not in dropped])
+    return kept_pages
+
+
+def _page_edges(lines: list[_StyledLine]) -> list[_StyledLine]:
+    visible = [line for line in lines if line.text.strip()]
+    return visible[:_EDGE_LINES] + visible[-_EDGE_LINES:]
+
+
+def _running_key(line: _StyledLine) -> str:
+    return _DIGITS.sub("#", " ".join(line.text.split()).lower())
 
 
 def _open(raw: bytes) -> PdfReader:
@@ -102,6 +138,8 @@ def _document_info(reader: PdfReader) -> dict:
             value = None
         if isinstance(value, str) and value.strip():
             info[key] = " ".join(value.split())
+    if _PLACEHOLDER_TITLE.match(info.get("title", "")):
+        del info["title"]
     try:
         info["date"] = iso_date(metadata.creation_date)
     except (ValueError, TypeError, KeyError):
