@@ -455,6 +455,13 @@ def test_cp1252_text_is_decoded_and_recorded(tmp_path):
     assert document.encoding == "cp1252"
 
 
+def test_cyrillic_code_page_is_not_misread_as_cp1252(tmp_path):
+    words = "\u041e\u043f\u043e\u0440\u044b \u043c\u043e\u0441\u0442\u0430 \u0432 \u0445\u043e\u0440\u043e\u0448\u0435\u043c \u0441\u043e\u0441\u0442\u043e\u044f\u043d\u0438\u0438, \u043d\u043e \u043f\u043e\u043a\u0440\u044b\u0442\u0438\u0435 \u0442\u0440\u0435\u0431\u0443\u0435\u0442 \u0440\u0435\u043c\u043e\u043d\u0442\u0430."
+    document = only(write(tmp_path / "most.txt", words.encode("cp1251")))
+    assert document.text == words
+    assert document.encoding == "cp1251"
+
+
 @pytest.mark.parametrize(
     ("encoded", "encoding"),
     [

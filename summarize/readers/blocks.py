@@ -8,6 +8,7 @@ text never does either.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 
 from summarize.document import Span
@@ -16,6 +17,8 @@ HEADING = "heading"
 PARAGRAPH = "paragraph"
 LIST = "list"
 TABLE = "table"
+
+_BLANK_RUNS = re.compile(r"\n{3,}")
 
 
 @dataclass
@@ -46,11 +49,12 @@ class Extract:
 
 
 def clean_blocks(blocks: list[Block]) -> list[Block]:
-    """Strip every line's trailing spaces and each block's outer whitespace, put
-    each heading on one line, and drop blocks left empty."""
+    """Strip every line's trailing spaces and each block's outer whitespace,
+    collapse runs of blank lines inside a block to one, put each heading on one
+    line, and drop blocks left empty."""
     cleaned = []
     for block in blocks:
-        text = "\n".join(line.rstrip() for line in block.text.strip().split("\n"))
+        text = _BLANK_RUNS.sub("\n\n", "\n".join(line.rstrip() for line in block.text.strip().split("\n")))
         if block.is_heading:
             # A heading is one line, whatever line breaks the source put in it.
             text = " ".join(text.split())

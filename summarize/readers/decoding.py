@@ -2,8 +2,11 @@
 
 Order of attempts: byte-order mark (UTF-32, UTF-8, UTF-16), strict UTF-8, UTF-16
 without a mark when the NUL pattern says so, an encoding the file itself declares
-(HTML only), strict cp1252, and finally charset-normalizer's best guess. Content
-that is not text at all is refused rather than decoded into noise.
+(HTML only), strict cp1252, and finally charset-normalizer's best guess. One
+exception to the order: when the cp1252 reading is mostly accented letters (what
+Greek or Cyrillic single-byte text looks like read as cp1252), charset-normalizer
+is asked first. Content that is not text at all is refused rather than decoded
+into noise.
 """
 
 from __future__ import annotations
@@ -30,6 +33,9 @@ _MAX_CONTROL_RATIO = 0.05
 # Share of the high (or low) bytes of UTF-16 code units that must be NUL before
 # text without a byte-order mark is taken for mostly-Latin UTF-16.
 _UTF16_NUL_SHARE = 0.4
+# Above this share of non-ASCII letters a cp1252 reading is double-checked.
+_MAX_ACCENTED_SHARE = 0.4
+_MIN_LETTERS_TO_JUDGE = 20
 
 
 def decode_text(raw: bytes, declared: str | None = None) -> tuple[str, str]:
@@ -54,16 +60,39 @@ def decode_text(raw: bytes, declared: str | None = None) -> tuple[str, str]:
     candidates = ["utf-8"]
     if declared:
         candidates.append(_as_web_encoding(declared))
-    candidates.append("cp1252")
     for encoding in candidates:
         try:
             return _checked_text(raw.decode(encoding)), _canonical_name(encoding)
         except (UnicodeDecodeError, LookupError):
             continue
+    try:
+        text = raw.decode("cp1252")
+    except UnicodeDecodeError:
+        return _best_guess(raw)
+    if _looks_misread(text):
+        return _best_guess(raw, fallback=(text, "cp1252"))
+    return _checked_text(text), "cp1252"
+
+
+def _looks_misread(text: str) -> bool:
+    """Greek or Cyrillic bytes read as cp1252 come out as runs of accented Latin
+    letters; real Western text has far fewer of them."""
+    letters = [char for char in text if char.isalpha()]
+    accented = sum(1 for char in letters if ord(char) > 0x7F)
+    return len(letters) >= _MIN_LETTERS_TO_JUDGE and accented / len(letters) > _MAX_ACCENTED_SHARE
+
+
+def _best_guess(raw: bytes, fallback: tuple[str, str] | None = None) -> tuple[str, str]:
+    """charset-normalizer's most plausible decoding, else ``fallback``. With a
+    fallback at hand only a single-byte code page is taken: for short samples
+    the detector may propose UTF-16 for plain 8-bit text."""
     best = charset_normalizer.from_bytes(raw).best()
-    if best is None:
-        raise ReadError("undecodable text (no known encoding fits)")
-    return _checked_text(str(best)), best.encoding
+    if best is not None and _canonical_name(best.encoding) != "cp1252":
+        if fallback is None or not _canonical_name(best.encoding).startswith("utf"):
+            return _checked_text(str(best)), best.encoding
+    if fallback is not None:
+        return _checked_text(fallback[0]), fallback[1]
+    raise ReadError("undecodable text (no known encoding fits)")
 
 
 def _decode_or_fail(raw: bytes, encoding: str) -> str:
