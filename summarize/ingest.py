@@ -20,7 +20,8 @@ Conventions:
   metadata under 'leading_summary_section'. JSON records take no sidecar.
 * Title: the format's own (front matter, <title>, PDF or DOCX properties,
   e-mail subject, record field), else a 'Title:' line near the top, else the
-  first heading, else the file name without suffix. Date: the format's own,
+  first heading that is not a numbered section ('1. Scope' names a section,
+  not the document), else the file name without suffix. Date: the format's own,
   else a 'Date:' line near the top, else None.
 """
 
@@ -35,6 +36,7 @@ from summarize.document import Document
 from summarize.readers.blocks import Extract, assemble
 from summarize.readers.docx import read_docx
 from summarize.readers.errors import ReadError
+from summarize.readers.headings import is_numbered_section
 from summarize.readers.html import read_html
 from summarize.readers.mail import read_eml
 from summarize.readers.pdf import read_pdf
@@ -286,7 +288,9 @@ def _document(extract: Extract, record_key: str, path: str, file_format: str, ra
     if not text:
         raise ReadError("no text content")
     preamble_title, preamble_date = preamble_fields(blocks)
-    first_heading = headings[0].slice(text) if headings else None
+    title_heading = next(
+        (span.slice(text) for span in headings if not is_numbered_section(span.slice(text))), None
+    )
     return Document(
         record_key=record_key,
         path=path,
@@ -294,7 +298,7 @@ def _document(extract: Extract, record_key: str, path: str, file_format: str, ra
         format=file_format,
         sha256=hashlib.sha256(raw).hexdigest(),
         size=len(raw),
-        title=extract.title or preamble_title or first_heading or fallback_title,
+        title=extract.title or preamble_title or title_heading or fallback_title,
         date=extract.date or preamble_date,
         encoding=extract.encoding,
         reference_summary=extract.reference_summary,

@@ -100,6 +100,12 @@ def test_plain_text_underlined_heading_stands_alone_without_its_underline(tmp_pa
     assert document.title == "Works Plan"
 
 
+def test_date_line_and_numbered_sections_are_not_titles(tmp_path):
+    document = only(write(tmp_path / "letter-17.txt", "21 May 2025\n\n1. Background\n\nThe valve was replaced.\n"))
+    assert heading_texts(document) == ["1. Background"]
+    assert document.title == "letter-17"
+
+
 def test_title_falls_back_to_file_name(tmp_path):
     document = only(write(tmp_path / "site-visit-04.txt", "the pumps were tested and all ran.\n"))
     assert document.title == "site-visit-04"

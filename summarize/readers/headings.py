@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 
+from summarize.readers.dates import iso_date
 # A line made of one repeated punctuation character: an rst/setext underline or
 # a plain-text rule.
 UNDERLINE = re.compile(r"^\s*([=\-~^*#+_.:'\"`])\1{2,}\s*$")
@@ -41,17 +42,30 @@ def is_capitals_heading(line: str) -> bool:
     )
 
 
+def is_heading_shaped(line: str) -> bool:
+    """Short, a few words, holds letters and does not end like a sentence. Enough
+    for a line whose font already marks it out."""
+    stripped = line.strip()
+    return (
+        0 < len(stripped) <= _MAX_HEADING_CHARS
+        and len(stripped.split()) <= _MAX_HEADING_WORDS
+        and not stripped.endswith(_TERMINAL_PUNCTUATION)
+        and any(char.isalpha() for char in stripped)
+    )
+
+
 def looks_like_heading(line: str) -> bool:
     """A line standing alone as a paragraph that reads as a title rather than a
-    sentence: short, starts with a capital or a section number, does not end
-    like a sentence, and is not a list item or a 'Key: value' line."""
+    sentence: heading-shaped, starts with a capital or a section number, and is
+    not a list item, a 'Key: value' line or a date ('21 May 2025')."""
     stripped = line.strip()
-    if not stripped or len(stripped) > _MAX_HEADING_CHARS:
+    if not is_heading_shaped(stripped) or is_metadata_line(stripped) or iso_date(stripped):
         return False
-    if len(stripped.split()) > _MAX_HEADING_WORDS or stripped.endswith(_TERMINAL_PUNCTUATION):
-        return False
-    if is_metadata_line(stripped) or not any(char.isalpha() for char in stripped):
-        return False
-    if is_list_item(stripped) and not _NUMBERED_TITLE.match(stripped):
+    if is_list_item(stripped) and not is_numbered_section(stripped):
         return False
     return stripped[0].isupper() or stripped[0].isdigit()
+
+
+def is_numbered_section(line: str) -> bool:
+    """'2. Findings', '3.1 Scope': a numbered section heading, not a title."""
+    return bool(_NUMBERED_TITLE.match(line.strip()))

@@ -24,7 +24,7 @@ from pypdf.errors import DependencyError, FileNotDecryptedError, PdfReadError
 from summarize.readers.blocks import Extract
 from summarize.readers.dates import iso_date
 from summarize.readers.errors import ReadError
-from summarize.readers.headings import is_capitals_heading, looks_like_heading
+from summarize.readers.headings import is_capitals_heading, is_heading_shaped
 from summarize.readers.reflow import Line, reflow
 from summarize.readers.references import is_summary_heading
 
@@ -206,7 +206,7 @@ def _mark_headings(lines: list[_StyledLine]) -> list[Line]:
         larger = body_size > 0 and line.size >= _HEADING_SIZE_RATIO * body_size
         bolder = line.bold and not body_is_bold
         heading = bool(text) and (
-            ((larger or bolder) and looks_like_heading(text))
+            ((larger or bolder) and is_heading_shaped(text))
             or is_capitals_heading(text)
             or is_summary_heading(text)
         )

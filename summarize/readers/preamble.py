@@ -1,4 +1,6 @@
-"""'Title: ...' and 'Date: ...' lines near the top of a document."""
+"""'Title: ...' and 'Date: ...' lines near the top of a document ('Subject:'
+counts as a title; 'Report date:', 'Issued:' and the like as a date; the date of
+an event described, such as 'Date of incident:', does not)."""
 
 from __future__ import annotations
 
@@ -7,7 +9,11 @@ import re
 from summarize.readers.blocks import Block
 from summarize.readers.dates import iso_date
 
-_FIELD_LINE = re.compile(r"^\s*(title|subject|date|dated)\s*:\s*(\S.*?)\s*$", re.IGNORECASE)
+_FIELD_LINE = re.compile(
+    r"^\s*(title|subject|date|dated|report date|date of report|issue date|date issued|issued)\s*:\s*(\S.*?)\s*$",
+    re.IGNORECASE,
+)
+_TITLE_KEYS = ("title", "subject")
 # How far down the document such lines are looked for.
 _MAX_BLOCKS = 4
 _MAX_LINES = 12
@@ -27,8 +33,8 @@ def preamble_fields(blocks: list[Block]) -> tuple[str | None, str | None]:
             if not match:
                 continue
             key, value = match.group(1).lower(), match.group(2)
-            if key in ("title", "subject") and title is None:
-                title = value
-            elif key in ("date", "dated") and date is None:
-                date = iso_date(value)
+            if key in _TITLE_KEYS:
+                title = title or value
+            else:
+                date = date or iso_date(value)
     return title, date

@@ -1,11 +1,13 @@
 """Reference summaries written inside a document: a leading section headed
 'Executive Summary', 'Management Summary', 'Summary' or 'Abstract'.
 
-Only a section near the start counts. Before it there may be at most one other
-heading (the document's title) and a few short blocks (author, date, reference
-lines); anything longer means the document has started and a later 'Summary'
-belongs to its body (a 'Summary of costs' in section 7 is never taken anyway,
-since only the exact names qualify).
+Only a section at the start counts. Before its heading there may be title
+headings (at most three, none numbered like a section) and after them a few
+short blocks (author, date, reference lines: at most four blocks of at most ten
+lines, 800 characters in all); a heading after such a block, a numbered section
+heading, or anything longer means the document has started, and a later
+'Summary' belongs to its body. Only the exact names qualify, so a 'Summary of
+costs' is never taken.
 """
 
 from __future__ import annotations
@@ -14,6 +16,7 @@ import re
 from dataclasses import dataclass
 
 from summarize.readers.blocks import Block
+from summarize.readers.headings import is_numbered_section
 
 SUMMARY_HEADING = re.compile(
     r"^\s*(?:#{1,6}\s*)?"
@@ -22,9 +25,10 @@ SUMMARY_HEADING = re.compile(
     r"\s*:?\s*$",
     re.IGNORECASE,
 )
+_MAX_TITLE_HEADINGS = 3
 _MAX_PREAMBLE_BLOCKS = 4
-_MAX_PREAMBLE_LINES = 4
-_MAX_PREAMBLE_LINE_CHARS = 100
+_MAX_PREAMBLE_LINES = 10
+_MAX_PREAMBLE_CHARS = 800
 
 
 @dataclass(frozen=True)
@@ -48,17 +52,23 @@ def find_leading_section(blocks: list[Block]) -> LeadingSection | None:
     Nothing is found when removing the section would leave no text."""
     titles_seen = 0
     preamble_blocks = 0
+    preamble_chars = 0
     for index, block in enumerate(blocks):
         if block.is_heading and is_summary_heading(block.text):
             return _cut_section(blocks, index)
         if block.is_heading:
             titles_seen += 1
-            if titles_seen > 1:
+            if preamble_blocks or titles_seen > _MAX_TITLE_HEADINGS or is_numbered_section(block.text):
                 return None
-        else:
-            preamble_blocks += 1
-            if preamble_blocks > _MAX_PREAMBLE_BLOCKS or not _is_short(block):
-                return None
+            continue
+        preamble_blocks += 1
+        preamble_chars += len(block.text)
+        if (
+            preamble_blocks > _MAX_PREAMBLE_BLOCKS
+            or preamble_chars > _MAX_PREAMBLE_CHARS
+            or block.text.count("\n") >= _MAX_PREAMBLE_LINES
+        ):
+            return None
     return None
 
 
@@ -85,10 +95,3 @@ def _ends_section(section_heading: Block, block: Block) -> bool:
     if section_heading.level and block.level:
         return block.level <= section_heading.level
     return True
-
-
-def _is_short(block: Block) -> bool:
-    lines = block.text.strip().split("\n")
-    return len(lines) <= _MAX_PREAMBLE_LINES and all(
-        len(line) <= _MAX_PREAMBLE_LINE_CHARS for line in lines
-    )
