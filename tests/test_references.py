@@ -166,6 +166,10 @@ def test_pdf_leading_summary_heading(tmp_path):
     pdf = FPDF()
     pdf.add_page()
     pdf.set_font("Helvetica", "B", 16)
+    pdf.cell(0, 10, "Close-Out Report: Relief Wells", new_x="LMARGIN", new_y="NEXT")
+    pdf.set_font("Helvetica", size=11)
+    pdf.multi_cell(0, 6, "Issued 3 March 2026 by the dam safety team.", new_x="LMARGIN", new_y="NEXT")
+    pdf.set_font("Helvetica", "B", 16)
     pdf.cell(0, 10, "Summary", new_x="LMARGIN", new_y="NEXT")
     pdf.set_font("Helvetica", size=11)
     pdf.multi_cell(0, 6, "Scour needs armour.", new_x="LMARGIN", new_y="NEXT")
@@ -175,7 +179,11 @@ def test_pdf_leading_summary_heading(tmp_path):
     pdf.multi_cell(0, 6, "Scour was measured at three piers.", new_x="LMARGIN", new_y="NEXT")
     document = only(write(tmp_path / "report.pdf", bytes(pdf.output())))
     assert (document.reference_summary, document.reference_source) == ("Scour needs armour.", "section:Summary")
-    assert document.text == "Findings\n\nScour was measured at three piers."
+    assert document.text == (
+        "Close-Out Report: Relief Wells\n\nIssued 3 March 2026 by the dam safety team.\n\n"
+        "Findings\n\nScour was measured at three piers."
+    )
+    assert heading_texts(document) == ["Close-Out Report: Relief Wells", "Findings"]
 
 
 def test_summary_of_costs_in_a_later_section_is_not_taken(tmp_path):

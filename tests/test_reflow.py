@@ -75,3 +75,23 @@ def test_heading_wrapped_over_two_lines_is_one_heading_but_two_sizes_are_two():
         ("Executive Summary", "heading"),
         ("Body.", "paragraph"),
     ]
+
+
+def test_table_rows_ending_in_numbers_do_not_run_into_the_next_line():
+    lines = [
+        Line("Valve exercising (quarterly) 36 25 11"),
+        Line("General station"),
+        Line("checks (monthly) 85 70 15"),
+        Line("Forty-three of the tasks were closed in batches on a single day by one of the"),
+        Line("two supervisors."),
+    ]
+    assert [block.text for block in reflow(lines)] == [
+        "Valve exercising (quarterly) 36 25 11",
+        "General station checks (monthly) 85 70 15",
+        "Forty-three of the tasks were closed in batches on a single day by one of the two supervisors.",
+    ]
+
+
+def test_a_sentence_wrapped_after_one_number_keeps_going():
+    lines = [Line(FULL + " 2023"), Line("and beyond.")]
+    assert [block.text for block in reflow(lines)] == [FULL + " 2023 and beyond."]

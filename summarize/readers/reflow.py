@@ -8,6 +8,9 @@ larger or bolder font). Heuristics, in order:
   closing quotes/brackets after them) while being clearly shorter than the
   document's usual line (under 80% of the 95th-percentile line length): a full-width
   line ending in a period is more likely wrapped mid-paragraph by chance.
+* A line ending in two or more numbers is taken for the end of a table row
+  and ends its paragraph too, so a table's rows do not run into each other or
+  into the prose after the table.
 * Lines of one paragraph are joined with a space, except that a hyphen at the
   end of a line between two lowercase letters is taken for a word broken by
   hyphenation and removed ('inspec-' + 'tion' -> 'inspection'). This is a
@@ -31,6 +34,8 @@ from summarize.readers.headings import is_list_item
 _PARAGRAPH_END = re.compile(r"[.!?:][\"'\u201d\u2019)\]]*$")
 _BULLET = re.compile(r"^\s*[\u2022\u2023\u25aa\u25e6\u2043\u2013*]\s+")
 _SHORT_LINE_SHARE = 0.8
+# Two or more numbers closing a line: the end of a table row ('Valves 36 25 11').
+_TABLE_ROW_END = re.compile(r"(?:\s[-+]?[£$€]?\d[\d,.]*%?){2,}$")
 
 
 @dataclass(frozen=True)
@@ -99,7 +104,8 @@ def join_wrapped(first: str, second: str) -> str:
 
 
 def _ends_paragraph(text: str, usual_length: int) -> bool:
-    return bool(_PARAGRAPH_END.search(text)) and len(text) < _SHORT_LINE_SHARE * usual_length
+    short_sentence_end = bool(_PARAGRAPH_END.search(text)) and len(text) < _SHORT_LINE_SHARE * usual_length
+    return short_sentence_end or bool(_TABLE_ROW_END.search(text))
 
 
 def _usual_line_length(lines: list[Line]) -> int:
