@@ -10,6 +10,9 @@ import time
 from tqdm import tqdm
 
 log = logging.getLogger("summarize")
+# Messages reach the screen through Progress itself; without a handler of its own the
+# logger would echo warnings to stderr a second time.
+log.addHandler(logging.NullHandler())
 
 
 def configure_log_file(path: str | None) -> None:
@@ -44,7 +47,9 @@ class Progress:
     def interactive(self) -> bool:
         return hasattr(self.stream, "isatty") and self.stream.isatty()
 
-    def start(self, total: int, label: str = "documents") -> None:
+    def start(self, total: int | None, label: str = "documents") -> None:
+        """Count toward ``total`` (None when not known in advance: no ETA then)."""
+        self.close()
         self._total, self._done = total, 0
         self._started = self._last_line = time.monotonic()
         self.label = label
@@ -55,15 +60,19 @@ class Progress:
         self._done += count
         if self._bar is not None:
             self._bar.update(count)
-            return
         now = time.monotonic()
-        if not self.quiet and (now - self._last_line >= self.every_seconds or self._done == self._total):
+        if now - self._last_line >= self.every_seconds or self._done == self._total:
             self._last_line = now
-            self.message(self.status_line())
+            if self._bar is None:
+                self.message(self.status_line())
+            else:  # the bar shows it on screen; the log file still gets the line
+                log.info(self.status_line())
 
     def status_line(self) -> str:
         elapsed = max(time.monotonic() - self._started, 1e-9)
         rate = self._done / elapsed
+        if self._total is None:
+            return f"{self._done} {self.label}, {rate:.2f}/s"
         remaining = self._total - self._done
         eta = f", about {remaining / rate / 60:.1f} min left" if rate > 0 and remaining > 0 else ""
         return f"{self._done}/{self._total} {self.label}, {rate:.2f}/s{eta}"
@@ -76,6 +85,10 @@ class Progress:
             self._bar.write(text, file=self.stream)
         else:
             print(text, file=self.stream, flush=True)
+
+    def error(self, text: str) -> None:
+        """A one-line problem report, shown even with ``quiet``."""
+        self.message(f"error: {text}", logging.WARNING)
 
     def close(self) -> None:
         if self._bar is not None:
