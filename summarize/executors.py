@@ -2,8 +2,9 @@
 existing Dask distributed cluster. Only the calling process ever writes the store;
 workers receive a document and its segmentation and return summaries (or the error).
 
-Every executor keeps a bounded number of documents in flight, so a stop request is
-honoured after those few finish, and memory does not grow with the archive.
+Every executor keeps a bounded number of documents in flight (about two per worker),
+so a stop request is honoured after those few finish, and memory does not grow with
+the archive. Work that never started when a stop came is cancelled.
 """
 
 from __future__ import annotations
@@ -11,6 +12,7 @@ from __future__ import annotations
 from abc import ABC, abstractmethod
 from collections.abc import Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
 
 from summarize.document import Document, Segmentation
 
@@ -71,6 +73,10 @@ class _WindowedExecutor(ABC):
     def _wait_any(self, futures: set) -> set:
         """Block until at least one future is done; return the done ones."""
 
+    def _cancel_unstarted(self, futures: list) -> list:
+        """Cancel what has not started; return the futures still to wait for."""
+        return [future for future in futures if not future.cancel()]
+
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         in_flight: dict = {}
         jobs = iter(jobs)
@@ -82,12 +88,24 @@ class _WindowedExecutor(ABC):
                     exhausted = True
                     break
                 document_id, (document, segmentation), names = job
-                in_flight[self._submit(document, segmentation, names)] = (document_id, document)
+                in_flight[self._submit(document, segmentation, names)] = (document_id, document, names)
+            if stop.reason():
+                in_flight = {future: in_flight[future] for future in self._cancel_unstarted(list(in_flight))}
             if not in_flight:
                 return
             for future in self._wait_any(set(in_flight)):
-                document_id, document = in_flight.pop(future)
-                yield document_id, document, future.result()
+                document_id, document, names = in_flight.pop(future)
+                yield document_id, document, self._outcomes(future, names)
+
+    @staticmethod
+    def _outcomes(future, names: list[str]) -> list:
+        try:
+            return future.result()
+        except BrokenProcessPool:
+            raise RuntimeError("a worker process died (out of memory or killed); rerun to continue") from None
+        except Exception as error:  # the worker or the transport failed, not a method: fail this document
+            failure = RuntimeError(f"worker failed: {type(error).__name__}: {error}")
+            return [(name, failure) for name in names]
 
 
 class ProcessExecutor(_WindowedExecutor):
@@ -119,10 +137,9 @@ class DaskExecutor(_WindowedExecutor):
     a window at a time; results come back to this process, which alone writes.
     """
 
-    def __init__(self, methods: list, address: str, window: int = 32):
+    def __init__(self, methods: list, address: str):
         self.methods = methods
         self.address = address
-        self.window = window
 
     def __enter__(self):
         from distributed import Client
@@ -131,6 +148,13 @@ class DaskExecutor(_WindowedExecutor):
             self.client = Client(self.address, timeout="20s")
         except OSError as error:
             raise RuntimeError(f"cannot reach the Dask scheduler at {self.address}: {error}") from None
+        try:
+            self.client.wait_for_workers(1, timeout=60)
+        except TimeoutError:
+            self.client.close()
+            raise RuntimeError(f"the Dask scheduler at {self.address} has no workers") from None
+        # Two documents per worker thread: every thread stays busy, little waits at a stop.
+        self.window = max(2, 2 * sum(self.client.nthreads().values()))
         by_name = {method.name: method for method in self.methods}
         [self.methods_future] = self.client.scatter([by_name], broadcast=True)
         return self
@@ -140,6 +164,11 @@ class DaskExecutor(_WindowedExecutor):
 
     def _submit(self, document, segmentation, names):
         return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
+
+    def _cancel_unstarted(self, futures: list) -> list:
+        # Dask does not say which tasks have started; the window holds only about two
+        # documents per worker thread, so they are all finished and kept.
+        return futures
 
     def _wait_any(self, futures):
         from distributed import wait as dask_wait
