@@ -129,6 +129,7 @@ def open_database(path: str) -> sqlite_utils.Database:
     """Open (creating if needed) a store and bring its schema up to date."""
     db = sqlite_utils.Database(path)
     db.execute("PRAGMA foreign_keys = ON")
+    db.execute("PRAGMA busy_timeout = 30000")
     version = db.execute("PRAGMA user_version").fetchone()[0]
     if version > SCHEMA_VERSION:
         raise RuntimeError(
@@ -137,9 +138,9 @@ def open_database(path: str) -> sqlite_utils.Database:
     if version < SCHEMA_VERSION:
         # WAL lets readers (find, show, export) work while a run writes.
         db.enable_wal()
-        with db.conn:
+        # One transaction: a kill while creating the schema leaves an empty file, not half a schema.
+        with db.atomic():
             for step in range(version + 1, SCHEMA_VERSION + 1):
                 MIGRATIONS[step](db)
             db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
-    db.execute("PRAGMA busy_timeout = 30000")
     return db

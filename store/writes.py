@@ -3,6 +3,12 @@
 A rerun finds what is already there by natural keys (record key + content hash for
 documents; document + method + parameter hash for summaries) and adds only what is
 missing, so an interrupted run loses at most the document in flight.
+
+Every write goes through :meth:`Store.transaction`, which is sqlite-utils'
+``atomic()``: an explicit BEGIN/COMMIT, with savepoints when nested. (A plain
+``with db.conn:`` is not enough: sqlite-utils commits each write made outside an
+explicit transaction on its own, so a kill between two of them would leave, say, a
+document without its sentences.)
 """
 
 from __future__ import annotations
@@ -63,7 +69,8 @@ class Store:
 
     @contextmanager
     def transaction(self):
-        with self.db.conn:
+        """All writes inside are committed together or not at all; nests."""
+        with self.db.atomic():
             yield
 
     # runs -------------------------------------------------------------------------
@@ -88,6 +95,14 @@ class Store:
                 run_id, {"finished": now(), "status": status, "counts": json.dumps(counts, sort_keys=True)}
             )
 
+    def close_interrupted_runs(self) -> int:
+        """Runs still marked ``running`` were killed (the caller holds the store's
+        writer lock, so none is alive): mark them ``interrupted``; returns how many."""
+        with self.transaction():
+            return self.db.execute(
+                "update runs set status = 'interrupted' where status = 'running'"
+            ).rowcount
+
     def update_run_config(self, run_id: int, config: dict) -> None:
         with self.transaction():
             self.db["runs"].update(run_id, {"config": json.dumps(config, sort_keys=True, default=str)})
@@ -98,35 +113,37 @@ class Store:
         rows = list(self.db["documents"].rows_where("record_key = ? and sha256 = ?", [record_key, sha256]))
         return rows[0] if rows else None
 
-    def add_document(self, document: Document, segmentation: Segmentation | None, run_id: int) -> tuple[int, bool]:
+    def add_document(
+        self, document: Document, segmentation: Segmentation | None, run_id: int
+    ) -> tuple[int, bool, str]:
         """Store a document unless the same record with the same content is there.
 
-        Returns ``(document_id, added)``. A record whose content changed gets a new row;
+        Returns ``(document_id, added, status)``. A record whose content changed gets a new row;
         the earlier version stays, marked ``replaced``, with its summaries. Content
-        already stored under another record key is marked ``duplicate`` of it. A
-        record seen again after being marked ``missing`` becomes ``active`` again.
+        already stored under another record key is marked ``duplicate`` of it. The
+        stored version matching the file becomes (or stays) the record's current one:
+        a record seen again after being marked ``missing`` is ``active`` again, and a
+        file changed back to an earlier content revives that earlier version.
         ``segmentation`` may be None only when the document is already stored.
         """
-        existing = self.find_document(document.record_key, document.sha256)
-        if existing is not None:
-            changes = {"last_run": run_id}
-            if existing["status"] == "missing":
-                changes["status"] = "active"
-            with self.transaction():
-                self.db["documents"].update(existing["id"], changes)
-            return existing["id"], False
-        if segmentation is None:
-            raise ValueError(f"{document.record_key}: a new document needs its segmentation")
         with self.transaction():
+            existing = self.find_document(document.record_key, document.sha256)
+            if existing is not None:
+                changes = {"last_run": run_id}
+                if existing["status"] in ("missing", "replaced"):
+                    self._retire_versions(document.record_key)
+                    changes["status"] = "active"
+                self.db["documents"].update(existing["id"], changes)
+                return existing["id"], False, changes.get("status", existing["status"])
+            if segmentation is None:
+                raise ValueError(f"{document.record_key}: a new document needs its segmentation")
             twin = self.db.execute(
                 "select id from documents where sha256 = ? and record_key != ? and status = 'active' "
                 "order by id limit 1",
                 [document.sha256, document.record_key],
             ).fetchone()
-            self.db.execute(
-                "update documents set status = 'replaced' where record_key = ? and status = 'active'",
-                [document.record_key],
-            )
+            self._retire_versions(document.record_key)
+            status = "duplicate" if twin else "active"
             document_id = self.db["documents"].insert(
                 {
                     "record_key": document.record_key,
@@ -139,7 +156,7 @@ class Store:
                     "encoding": document.encoding,
                     "text": document.text,
                     "metadata": json.dumps(document.metadata, sort_keys=True, default=str),
-                    "status": "duplicate" if twin else "active",
+                    "status": status,
                     "duplicate_of": twin[0] if twin else None,
                     "first_run": run_id,
                     "last_run": run_id,
@@ -162,7 +179,14 @@ class Store:
                 self.db["reference_summaries"].insert(
                     {"document_id": document_id, "text": document.reference_summary, "source": document.reference_source}
                 )
-        return document_id, True
+        return document_id, True, status
+
+    def _retire_versions(self, record_key: str) -> None:
+        """The record's current version (active, or missing from disk) is superseded."""
+        self.db.execute(
+            "update documents set status = 'replaced' where record_key = ? and status in ('active', 'missing')",
+            [record_key],
+        )
 
     def mark_missing(self, document_id: int) -> None:
         """The file behind a stored document is gone: keep everything, say so."""
@@ -184,6 +208,16 @@ class Store:
                 [document_id, method, param_hash],
             ).fetchone()
         )
+
+    def documents_with_summary(self, method: str, param_hash: str) -> set[int]:
+        """Ids of the documents that have a summary by ``method`` with these parameters
+        (one query per method, instead of one per document)."""
+        return {
+            row[0]
+            for row in self.db.execute(
+                "select document_id from summaries where method = ? and param_hash = ?", [method, param_hash]
+            )
+        }
 
     def add_summary(self, document_id: int, run_id: int, summary: Summary) -> int:
         """Store a summary with its sentences, sources and flags; a summary already

@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import os
 import time
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
@@ -31,10 +31,11 @@ from summarize.budget import Budget
 from summarize.document import Document, Segmentation, Span, param_hash
 from summarize.executors import make_executor
 from summarize.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
-from summarize.ingest import IngestProblem, RecordFields, iter_archive
+from summarize.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
 from summarize.progress import Progress
+from summarize.readers.sidecars import is_sidecar_name
 from summarize.runcontrol import StopConditions
-from summarize.runlock import StoreLock
+from summarize.runlock import StoreLock, describe_holder
 from summarize.split import split_document
 
 # Exit statuses of `summarize run` (documented in the README).
@@ -58,6 +59,7 @@ class RunReport:
     summaries_added: int = 0
     summaries_skipped: int = 0
     documents_remaining: int = 0
+    files_unread: int = 0
     stop_reason: str | None = None
     errors: list[str] = field(default_factory=list)
     skipped_files: list[str] = field(default_factory=list)
@@ -81,6 +83,7 @@ class RunReport:
             "summaries_skipped": self.summaries_skipped,
             "documents_summarized": self.documents_summarized,
             "documents_remaining": self.documents_remaining,
+            "files_unread": self.files_unread,
             "files_failed": len(self.errors),
             "files_skipped": len(self.skipped_files),
             "summaries_failed": len(self.failed_summaries),
@@ -159,27 +162,64 @@ def _under(record_key: str, roots: list[str]) -> bool:
     return any(path == root or path.startswith(root.rstrip(os.sep) + os.sep) for root in roots)
 
 
+def _file_of(key: str) -> str:
+    """The file behind a record key or problem path ('a.jsonl#3' -> 'a.jsonl')."""
+    return key.split("#", 1)[0]
+
+
+def _archive_files(paths: list[str]) -> Iterator[str]:
+    """The document files under ``paths`` as the archive walk names them (sorted,
+    hidden names and summary sidecars left out), without reading any of them: used
+    to say how much of the archive a stopped run has not read yet."""
+    for given in paths:
+        root = Path(given)
+        if root.is_file():
+            yield str(root)
+            continue
+        stack = [root]
+        while stack:
+            folder = stack.pop()
+            try:
+                entries = sorted(folder.iterdir(), key=lambda entry: entry.name, reverse=True)
+            except OSError:
+                continue
+            for entry in entries:
+                if entry.name.startswith("."):
+                    continue
+                if entry.is_dir():
+                    stack.append(entry)
+                elif entry.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(entry):
+                    yield str(entry)
+
+
 def _read_archive(store, run_id, paths, fields, report, progress, stop) -> list[int]:
     """Pass 1. Returns the ids of the current, non-duplicate documents seen."""
     seen_keys: set[str] = set()
+    files_visited: set[str] = set()
+    files_failed: set[str] = set()
     document_ids: list[int] = []
     walked_everything = True
+    progress.start(None, "files read")
     for item in iter_archive(paths, fields):
         if stop.reason():
             walked_everything = False
             break
         if isinstance(item, IngestProblem):
+            files_visited.add(_file_of(item.path))
             store.record_problem(run_id, item.path, item.kind, item.reason)
             if item.kind == "error":
+                files_failed.add(_file_of(item.path))
                 report.errors.append(str(item))
-                progress.message(f"error: {item}")
+                progress.error(str(item))
             else:
                 report.skipped_files.append(str(item))
             continue
+        if item.path not in files_visited:
+            files_visited.add(item.path)
+            progress.advance()
         seen_keys.add(item.record_key)
-        existing = store.find_document(item.record_key, item.sha256)
-        if existing is not None:
-            document_id, added = store.add_document(item, None, run_id)
+        if store.find_document(item.record_key, item.sha256) is not None:
+            document_id, added, status = store.add_document(item, None, run_id)
         else:
             try:
                 segmentation = split_document(item)
@@ -187,23 +227,27 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop) -> list[
                 reason = f"could not split into sentences ({error})"
                 store.record_problem(run_id, item.record_key, "error", reason)
                 report.errors.append(f"{item.record_key}: {reason}")
-                progress.message(f"error: {item.record_key}: {reason}")
+                progress.error(f"{item.record_key}: {reason}")
                 continue
-            document_id, added = store.add_document(item, segmentation, run_id)
+            document_id, added, status = store.add_document(item, segmentation, run_id)
         report.documents_seen += 1
         report.documents_added += int(added)
-        if store.db["documents"].get(document_id)["status"] == "duplicate":
+        if status == "duplicate":
             report.duplicates += 1
             continue
         document_ids.append(document_id)
-    if walked_everything:
-        roots = [str(p) for p in paths]
-        for row in store.db.execute(
-            "select id, record_key from documents where status = 'active'"
-        ).fetchall():
-            if row[1] not in seen_keys and _under(row[1], roots):
-                store.mark_missing(row[0])
-                report.missing += 1
+    progress.close()
+    if not walked_everything:
+        report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
+        return document_ids
+    roots = [str(p) for p in paths]
+    for document_id, record_key in store.db.execute(
+        "select id, record_key from documents where status = 'active'"
+    ).fetchall():
+        # A file that is still there but failed to read this time keeps its last good version.
+        if record_key not in seen_keys and _file_of(record_key) not in files_failed and _under(record_key, roots):
+            store.mark_missing(document_id)
+            report.missing += 1
     return document_ids
 
 
@@ -234,8 +278,16 @@ def run_archive(
     progress = progress or Progress()
     stop = stop or StopConditions()
     active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds), stop:
+    lock = StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress.message)
+    with lock, stop:
+        if lock.stale_holder:
+            progress.message(
+                f"took over the lock left by {describe_holder(lock.stale_holder)}, which is no longer running"
+            )
         store = Store(db_path)
+        interrupted = store.close_interrupted_runs()
+        if interrupted:
+            progress.message(f"{interrupted} earlier run(s) had been interrupted; doing what they left undone")
         config = {
             "paths": paths,
             "methods": {m.name: m.get_params() for m in active},
@@ -254,9 +306,17 @@ def run_archive(
                 f"read {report.documents_seen} documents ({report.documents_added} new, "
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"
             )
-            if not stop.reason():
+            if stop.reason():
+                report.documents_remaining = len(_pending(store, document_ids, active, report))
+            else:
                 _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
             report.stop_reason = stop.reason()
+            if report.stop_reason:
+                unread = f" and {report.files_unread} files not read yet" if report.files_unread else ""
+                progress.message(
+                    f"{report.stop_reason}: {report.documents_remaining} documents remain to summarize{unread}; "
+                    "rerun the same command to finish them"
+                )
             status = "stopped" if report.stop_reason else "completed"
         finally:
             report.seconds = time.perf_counter() - started
@@ -266,11 +326,20 @@ def run_archive(
     return report
 
 
-def _pending_methods(store: Store, document_id: int, active: list) -> list:
-    return [
-        method for method in active
-        if not store.has_summary(document_id, method.name, param_hash(method.name, method.get_params()))
-    ]
+def _pending(store: Store, document_ids: list[int], active: list, report: RunReport) -> dict[int, set[str]]:
+    """Method names still to run, per document (one query per method); counts the
+    summaries already stored as skipped."""
+    done = {
+        method.name: store.documents_with_summary(method.name, param_hash(method.name, method.get_params()))
+        for method in active
+    }
+    todo: dict[int, set[str]] = {}
+    for document_id in document_ids:
+        names = {method.name for method in active if document_id not in done[method.name]}
+        report.summaries_skipped += len(active) - len(names)
+        if names:
+            todo[document_id] = names
+    return todo
 
 
 def _stored_texts(store: Store, document_ids: list[int]):
@@ -280,12 +349,7 @@ def _stored_texts(store: Store, document_ids: list[int]):
 
 def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
     """Pass 2: fit archive statistics, then compute and store what is missing."""
-    todo: dict[int, set[str]] = {}
-    for document_id in document_ids:
-        pending = _pending_methods(store, document_id, active)
-        report.summaries_skipped += len(active) - len(pending)
-        if pending:
-            todo[document_id] = {m.name for m in pending}
+    todo = _pending(store, document_ids, active, report)
     if not todo:
         progress.message("nothing to summarize: every summary is already stored")
         return
@@ -295,7 +359,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     batched = [m for m in active if hasattr(m, "summarize_many")]
     per_document = [m for m in active if not hasattr(m, "summarize_many")]
     per_document_names = {m.name for m in per_document}
-    progress.start(len(todo))
+    progress.start(len(todo), "documents summarized")
 
     def finished(document_id: int, names: set[str]) -> None:
         todo[document_id] -= names
@@ -324,18 +388,19 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
                 _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
                 finished(document_id, {method.name})
+    progress.close()
     report.documents_remaining = len(todo)
-    if todo and stop.reason():
-        progress.message(f"{stop.reason()}: {len(todo)} documents remain; rerun the same command to finish them")
 
 
 def _store_outcomes(store, run_id, document_id, document, outcomes, report, progress) -> None:
-    for method_name, outcome in outcomes:
-        if isinstance(outcome, Exception):
-            reason = f"{method_name} failed: {outcome}"
-            store.record_problem(run_id, document.record_key, "error", reason)
-            report.failed_summaries.append(f"{document.record_key}: {reason}")
-            progress.message(f"error: {document.record_key}: {reason}")
-            continue
-        store.add_summary(document_id, run_id, outcome)
-        report.summaries_added += 1
+    """One transaction for all of a document's new summaries (and failures)."""
+    with store.transaction():
+        for method_name, outcome in outcomes:
+            if isinstance(outcome, Exception):
+                reason = f"{method_name} failed: {outcome}"
+                store.record_problem(run_id, document.record_key, "error", reason)
+                report.failed_summaries.append(f"{document.record_key}: {reason}")
+                progress.error(f"{document.record_key}: {reason}")
+                continue
+            store.add_summary(document_id, run_id, outcome)
+            report.summaries_added += 1

@@ -16,11 +16,11 @@ import click
 from store.export import FORMATS, export as export_summaries
 from store.queries import CAUTION, DocumentNotFound, find as find_documents, show as show_document
 from store.schema import open_database
-from summarize.batch import EXIT_FAILED, run_archive
+from summarize.batch import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
 from summarize.budget import Budget
 from summarize.ingest import RecordFields
 from summarize.jobfile import load_job
-from summarize.progress import Progress, configure_log_file
+from summarize.progress import Progress, configure_log_file, log as run_log
 from summarize.runcontrol import StopConditions, parse_until
 from summarize.runlock import StoreLocked
 
@@ -128,22 +128,33 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
             progress=Progress(quiet=quiet),
         )
     except (ValueError, StoreLocked, RuntimeError) as error:
+        run_log.error(str(error))
         _fail(str(error))
+    except KeyboardInterrupt:  # a second Ctrl-C: every finished document is already committed
+        click.echo("interrupted; rerun the same command to finish", err=True)
+        sys.exit(EXIT_STOPPED_EARLY)
     counts = report.counts()
     if as_json:
         click.echo(json.dumps({"run_id": report.run_id, **counts, "errors": report.errors}, indent=2))
     else:
-        rate = f", {counts['documents_per_second']:.2f} documents/s" if counts["documents_per_second"] else ""
-        click.echo(
-            f"run {report.run_id}: {counts['documents_seen']} documents read "
-            f"({counts['documents_added']} new, {counts['duplicates']} duplicates, {counts['missing']} gone from disk); "
-            f"{counts['summaries_added']} summaries added, {counts['summaries_skipped']} already stored; "
-            f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped, "
-            f"{counts['documents_remaining']} documents remaining; {counts['seconds']:.1f}s{rate}"
-        )
-        if report.stop_reason:
-            click.echo(f"stopped early ({report.stop_reason}); rerun the same command to finish", err=True)
+        click.echo(_run_summary(report.run_id, counts))
+    run_log.info(_run_summary(report.run_id, counts))
+    if report.stop_reason:
+        click.echo(f"stopped early ({report.stop_reason}); rerun the same command to finish", err=True)
     sys.exit(report.exit_status)
+
+
+def _run_summary(run_id: int, counts: dict) -> str:
+    rate = f", {counts['documents_per_second']:.2f} documents/s" if counts["documents_per_second"] else ""
+    unread = f", {counts['files_unread']} files not read yet" if counts["files_unread"] else ""
+    return (
+        f"run {run_id}: {counts['documents_seen']} documents read "
+        f"({counts['documents_added']} new, {counts['duplicates']} duplicates, {counts['missing']} gone from disk); "
+        f"{counts['documents_summarized']} documents summarized ({counts['summaries_added']} summaries added, "
+        f"{counts['summaries_skipped']} already stored, {counts['summaries_failed']} failed); "
+        f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped; "
+        f"{counts['documents_remaining']} documents remaining{unread}; {counts['seconds']:.1f}s{rate}"
+    )
 
 
 @main.command()
