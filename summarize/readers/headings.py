@@ -6,11 +6,12 @@ from __future__ import annotations
 import re
 
 from summarize.readers.dates import iso_date
+
 # A line made of one repeated punctuation character: an rst/setext underline or
 # a plain-text rule.
-UNDERLINE = re.compile(r"^\s*([=\-~^*#+_.:'\"`])\1{2,}\s*$")
-LIST_ITEM = re.compile(r"^\s*(?:[-*+\u2022\u2023\u25aa\u25e6\u2013\u2043]\s+|\(?[0-9]{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
-METADATA_LINE = re.compile(r"^[A-Za-z][A-Za-z .\-/]{0,30}:\s+\S")
+_UNDERLINE = re.compile(r"^\s*([=\-~^*#+_.:'\"`])\1{2,}\s*$")
+_LIST_ITEM = re.compile(r"^\s*(?:[-*+\u2022\u2023\u25aa\u25e6\u2013\u2043]\s+|\(?[0-9]{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
+_METADATA_LINE = re.compile(r"^[A-Za-z][A-Za-z .\-/]{0,30}:\s+\S")
 _NUMBERED_TITLE = re.compile(r"^\d+(\.\d+)*\.?\s+[A-Z]")
 _TERMINAL_PUNCTUATION = tuple(".,;!?")
 _MAX_HEADING_CHARS = 80
@@ -18,16 +19,16 @@ _MAX_HEADING_WORDS = 12
 
 
 def is_underline(line: str) -> bool:
-    return bool(UNDERLINE.match(line))
+    return bool(_UNDERLINE.match(line))
 
 
 def is_list_item(line: str) -> bool:
-    return bool(LIST_ITEM.match(line))
+    return bool(_LIST_ITEM.match(line))
 
 
 def is_metadata_line(line: str) -> bool:
     """'Date: 3 May 2024', 'Ref: BR-17' and the like."""
-    return bool(METADATA_LINE.match(line.strip()))
+    return bool(_METADATA_LINE.match(line.strip()))
 
 
 def is_capitals_heading(line: str) -> bool:

@@ -54,16 +54,12 @@ def _split_headings(lines: list[str]) -> list[Block]:
             blocks.append(Block("\n".join(body)))
             body.clear()
 
-    index = 0
-    while index < len(lines):
-        line = lines[index]
-        following = lines[index + 1] if index + 1 < len(lines) else None
+    for index, line in enumerate(lines):
         if is_underline(line):
-            index += 1
             continue
-        underlined = following is not None and is_underline(following) and not is_underline(line)
-        opens_paragraph = not body and not blocks
-        strong_opening = opens_paragraph and following is not None and (
+        following = lines[index + 1] if index + 1 < len(lines) else None
+        underlined = following is not None and is_underline(following)
+        strong_opening = not body and not blocks and following is not None and (
             is_capitals_heading(line) or is_summary_heading(line)
         )
         sole_line = len(lines) == 1 and looks_like_heading(line)
@@ -72,6 +68,5 @@ def _split_headings(lines: list[str]) -> list[Block]:
             blocks.append(Block(line.strip(), HEADING))
         else:
             body.append(line)
-        index += 1
     flush_body()
     return blocks
