@@ -131,7 +131,7 @@ def write_scores(db: sqlite_utils.Database, summary_id: int, values: dict) -> No
     """Store one summary's scores: ``values`` maps a metric name to an object with
     ``precision``, ``recall`` and ``f1``. Existing scores of the same metric are kept."""
     created = now()
-    with db.conn:
+    with db.atomic():
         for metric, value in values.items():
             db.execute(
                 "insert or ignore into scores (summary_id, metric, precision, recall, f1, created) "

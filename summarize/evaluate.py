@@ -18,32 +18,41 @@ from store.evaluation import unscored_summaries, write_scores
 from store.writes import Store
 from summarize.matched import MATCHED_METHODS, MatchedBudget, add_matched_summaries, add_oracle_at_stored_budgets
 from summarize.rouge import RougeMetric, reference_sentences
+from summarize.runlock import StoreLock
 
 
 def _say(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
 
 
+def _score_pending(store: Store, metric: RougeMetric, progress: Callable[[str], None] | None) -> int:
+    pending = unscored_summaries(store.db)
+    references: dict[int, list[str]] = {}
+    for number, item in enumerate(pending, 1):
+        if item["document_id"] not in references:
+            references[item["document_id"]] = reference_sentences(item["reference"])
+        values = metric.score(item["sentences"], references[item["document_id"]])
+        write_scores(store.db, item["summary_id"], values)
+        if progress and (number % 200 == 0 or number == len(pending)):
+            progress(f"scored {number}/{len(pending)} summaries")
+    return len(pending)
+
+
 def score_store(
-    db_path: str, metric: RougeMetric | None = None, progress: Callable[[str], None] | None = None
+    db_path: str,
+    metric: RougeMetric | None = None,
+    progress: Callable[[str], None] | None = None,
+    lock_wait_seconds: float = 0.0,
 ) -> int:
     """Score every stored summary whose document has a reference and that has no
-    score yet; returns how many summaries were scored."""
-    metric = metric or RougeMetric()
-    store = Store(db_path)
-    try:
-        pending = unscored_summaries(store.db)
-        references: dict[int, list[str]] = {}
-        for number, item in enumerate(pending, 1):
-            if item["document_id"] not in references:
-                references[item["document_id"]] = reference_sentences(item["reference"])
-            values = metric.score(item["sentences"], references[item["document_id"]])
-            write_scores(store.db, item["summary_id"], values)
-            if progress and (number % 200 == 0 or number == len(pending)):
-                progress(f"scored {number}/{len(pending)} summaries")
-        return len(pending)
-    finally:
-        store.close()
+    score yet; returns how many summaries were scored. Takes the store's writer lock
+    (:class:`~summarize.runlock.StoreLocked` when a run holds it)."""
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
+        store = Store(db_path)
+        try:
+            return _score_pending(store, metric or RougeMetric(), progress)
+        finally:
+            store.close()
 
 
 @dataclass
@@ -64,17 +73,24 @@ def score(
     budget: MatchedBudget | str = "reference",
     methods: Sequence[str] = MATCHED_METHODS,
     progress: Callable[[str], None] | None = _say,
+    lock_wait_seconds: float = 0.0,
 ) -> ScoreReport:
     """Make the summaries a fair comparison needs, then score everything unscored.
 
     For every active document with a reference: each of ``methods`` (the oracle
     included by default) at the matched ``budget`` ("reference" = the reference's
     length in words, or a number of words), and the oracle at every budget already
-    stored. The work is recorded as a run of its own (command ``score``).
+    stored. The work is recorded as a run of its own (command ``score``), under the
+    store's writer lock, so it never interleaves with a ``summarize run``.
     """
     budget = budget if isinstance(budget, MatchedBudget) else MatchedBudget.parse(budget)
     started = time.perf_counter()
     metric = RougeMetric()
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
+        return _score_locked(db_path, budget, methods, metric, progress, started)
+
+
+def _score_locked(db_path, budget, methods, metric, progress, started) -> ScoreReport:
     store = Store(db_path)
     run_id = store.begin_run(
         "score",
@@ -85,7 +101,7 @@ def score(
     try:
         report.summaries_added = add_matched_summaries(store, run_id, budget, methods, progress)
         report.oracles_added = add_oracle_at_stored_budgets(store, run_id, progress)
-        report.summaries_scored = score_store(db_path, metric, progress)
+        report.summaries_scored = _score_pending(store, metric, progress)
         status = "completed"
     finally:
         report.seconds = time.perf_counter() - started
