@@ -179,6 +179,18 @@ class Store:
                 self.db["reference_summaries"].insert(
                     {"document_id": document_id, "text": document.reference_summary, "source": document.reference_source}
                 )
+                # Identical content: a reference found under the second name serves the
+                # first, which is the one summarized and scored.
+                if twin and not self.db.execute(
+                    "select 1 from reference_summaries where document_id = ?", [twin[0]]
+                ).fetchone():
+                    self.db["reference_summaries"].insert(
+                        {
+                            "document_id": twin[0],
+                            "text": document.reference_summary,
+                            "source": f"{document.reference_source} (found with {document.record_key})",
+                        }
+                    )
         return document_id, True, status
 
     def _retire_versions(self, record_key: str) -> None:
