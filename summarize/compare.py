@@ -22,7 +22,7 @@ from store.queries import CAUTION
 from store.schema import open_database
 from summarize.bootstrap import Difference, Interval, PercentileBootstrap
 from summarize.budget import count_words
-from summarize.fragments import extractiveness
+from summarize.fragments import IndexedSource, extractiveness
 from summarize.matched import MatchedBudget, budget_label, is_matched
 from summarize.rouge import METRIC_LABELS, METRICS
 
@@ -155,6 +155,7 @@ def compare(
         key = (summary["method"], _settings_key(summary["method"], summary["params"]))
         grouped[label][key].append(summary)
 
+    sources: dict[int, IndexedSource] = {}
     groups = []
     for label, systems in grouped.items():
         settings_per_method = defaultdict(int)
@@ -163,7 +164,7 @@ def compare(
         results = []
         for (method, settings), members in systems.items():
             name = method if settings_per_method[method] == 1 else f"{method}#{settings}"
-            results.append(_system_result(name, method, members, sentences, documents, measure, bootstrap))
+            results.append(_system_result(name, method, members, sentences, documents, sources, measure, bootstrap))
         baseline = next((r for r in sorted(results, key=_system_order) if r.method == BASELINE), None)
         if baseline is not None:
             for result in results:
@@ -175,7 +176,7 @@ def compare(
     return Comparison(measure, confidence, resamples, seed, groups, reference_words)
 
 
-def _system_result(name, method, members, sentences, documents, measure, bootstrap) -> SystemResult:
+def _system_result(name, method, members, sentences, documents, sources, measure, bootstrap) -> SystemResult:
     per_document = {}
     fragments = defaultdict(list)
     for summary in members:
@@ -185,7 +186,10 @@ def _system_result(name, method, members, sentences, documents, measure, bootstr
             "words": count_words(summary["text"] or ""),
             **values,
         }
-        found = extractiveness(documents[summary["document_id"]]["text"], sentences.get(summary["summary_id"], []))
+        document_id = summary["document_id"]
+        if document_id not in sources:
+            sources[document_id] = IndexedSource(documents[document_id]["text"])
+        found = extractiveness(sources[document_id], sentences.get(summary["summary_id"], []))
         for field_name in EXTRACTIVENESS_FIELDS:
             fragments[field_name].append(getattr(found, field_name))
     metrics = [m for m in METRICS if all(m in row for row in per_document.values())]

@@ -33,22 +33,37 @@ def tokens(text: str) -> list[str]:
     return _TOKENIZER.tokenize(text)
 
 
-def extractive_fragments(article: list[str], summary: list[str]) -> list[list[str]]:
+class IndexedSource:
+    """A source's tokens with where each occurs and its n-gram sets, built once per
+    document so that several summaries of it are measured cheaply."""
+
+    def __init__(self, text: str):
+        self.tokens = tokens(text)
+        self.positions: dict[str, list[int]] = defaultdict(list)
+        for index, token in enumerate(self.tokens):
+            self.positions[token].append(index)
+        self._ngrams: dict[int, set[tuple[str, ...]]] = {}
+
+    def ngrams(self, n: int) -> set[tuple[str, ...]]:
+        if n not in self._ngrams:
+            self._ngrams[n] = set(zip(*(self.tokens[k:] for k in range(n))))
+        return self._ngrams[n]
+
+
+def extractive_fragments(source: IndexedSource, summary: list[str]) -> list[list[str]]:
     """Greedy fragments ``F(A, S)`` as Grusky et al. (2018) define them.
 
-    Their pseudo-code scans every article position for each summary position; an
+    Their pseudo-code scans every article position for each summary position; the
     index of where each token occurs in the article visits only the positions that
     can start a match, which gives the same fragments.
     """
-    positions: dict[str, list[int]] = defaultdict(list)
-    for index, token in enumerate(article):
-        positions[token].append(index)
+    article = source.tokens
     fragments: list[list[str]] = []
     i = 0
     while i < len(summary):
         best_length = 0
         next_start = 0  # the pseudo-code resumes its article scan after a match
-        for j in positions.get(summary[i], ()):
+        for j in source.positions.get(summary[i], ()):
             if j < next_start:
                 continue
             length = 0
@@ -66,15 +81,13 @@ def extractive_fragments(article: list[str], summary: list[str]) -> list[list[st
     return fragments
 
 
-def novel_ngram_ratio(source: list[str], summary_sentences: list[list[str]], n: int) -> float:
+def novel_ngram_ratio(source: IndexedSource, summary_sentences: list[list[str]], n: int) -> float:
     """Share of the summary's n-grams (within sentences) absent from the source."""
-    source_ngrams = {tuple(source[k : k + n]) for k in range(len(source) - n + 1)}
-    summary_ngrams = [
-        tuple(sentence[k : k + n]) for sentence in summary_sentences for k in range(len(sentence) - n + 1)
-    ]
+    summary_ngrams = [ngram for sentence in summary_sentences for ngram in zip(*(sentence[k:] for k in range(n)))]
     if not summary_ngrams:
         return 0.0
-    return sum(ngram not in source_ngrams for ngram in summary_ngrams) / len(summary_ngrams)
+    known = source.ngrams(n)
+    return sum(ngram not in known for ngram in summary_ngrams) / len(summary_ngrams)
 
 
 @dataclass(frozen=True)
@@ -86,18 +99,18 @@ class Extractiveness:
     novel_bigrams: float
 
 
-def extractiveness(source_text: str, summary_sentences: list[str]) -> Extractiveness:
+def extractiveness(source: str | IndexedSource, summary_sentences: list[str]) -> Extractiveness:
     """Coverage, density, compression and novel 1-/2-gram ratios of one summary."""
-    article = tokens(source_text)
+    source = source if isinstance(source, IndexedSource) else IndexedSource(source)
     sentences = [tokens(s) for s in summary_sentences]
     summary = [token for sentence in sentences for token in sentence]
     if not summary:
         return Extractiveness(0.0, 0.0, 0.0, 0.0, 0.0)
-    fragments = extractive_fragments(article, summary)
+    fragments = extractive_fragments(source, summary)
     return Extractiveness(
         coverage=sum(len(f) for f in fragments) / len(summary),
         density=sum(len(f) ** 2 for f in fragments) / len(summary),
-        compression=len(article) / len(summary),
-        novel_unigrams=novel_ngram_ratio(article, sentences, 1),
-        novel_bigrams=novel_ngram_ratio(article, sentences, 2),
+        compression=len(source.tokens) / len(summary),
+        novel_unigrams=novel_ngram_ratio(source, sentences, 1),
+        novel_bigrams=novel_ngram_ratio(source, sentences, 2),
     )

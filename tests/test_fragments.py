@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import pytest
 
-from summarize.fragments import extractive_fragments, extractiveness, tokens
+from summarize.fragments import IndexedSource, extractive_fragments, extractiveness, tokens
 
 
 def test_coverage_and_density_by_hand():
@@ -21,7 +21,7 @@ def test_coverage_and_density_by_hand():
     # sat on, on a, a mat -> "on a" and "a mat" are novel = 2/5.
     article = "The cat sat on the mat today."
     summary = ["The cat sat on a mat."]
-    assert extractive_fragments(tokens(article), tokens(summary[0])) == [["the", "cat", "sat", "on"], ["mat"]]
+    assert extractive_fragments(IndexedSource(article), tokens(summary[0])) == [["the", "cat", "sat", "on"], ["mat"]]
     found = extractiveness(article, summary)
     assert found.coverage == pytest.approx(5 / 6)
     assert found.density == pytest.approx(17 / 6)
