@@ -38,7 +38,7 @@ def build_store(path, rng: random.Random, documents: int = 12) -> None:
             sha256=f"{number:064x}", size=len(text), reference_summary=reference, reference_source="test",
         )
         segmentation = split_document(document)
-        document_id, _ = store.add_document(document, segmentation, run_id)
+        document_id = store.add_document(document, segmentation, run_id)[0]
         for variant in range(3):
             if variant < 2:  # extractive: a random subset of the document's sentences
                 spans = sorted(rng.sample(segmentation.sentences, rng.randint(1, len(segmentation.sentences))))
@@ -100,7 +100,7 @@ def test_documents_without_reference_are_not_scored(tmp_path):
     text = "The night shift reported a leak. The crew repaired the main."
     document = Document("x", "x.txt", text, "txt", "f" * 64, len(text))
     segmentation = split_document(document)
-    document_id, _ = store.add_document(document, segmentation, run_id)
+    document_id = store.add_document(document, segmentation, run_id)[0]
     span = segmentation.sentences[0]
     store.add_summary(document_id, run_id, Summary("lead", {}, [SummarySentence(span.slice(text), 1.0, (SourceLink(span, 1.0),))]))
     store.close()
