@@ -18,11 +18,8 @@ from store.queries import CAUTION, DocumentNotFound, find as find_documents, sho
 from store.schema import open_database
 from summarize.batch import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
 from summarize.budget import Budget
-from summarize.compare import MEASURES, compare as compare_methods, format_comparison
-from summarize.evaluate import score as score_summaries
 from summarize.ingest import RecordFields
 from summarize.jobfile import load_job
-from summarize.matched import MATCHED_METHODS
 from summarize.progress import Progress, configure_log_file, log as run_log
 from summarize.runcontrol import StopConditions, parse_until
 from summarize.runlock import StoreLocked
@@ -258,7 +255,7 @@ def export(db_path, fmt, out_path, methods):
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
 @click.option("--budget", default="reference", show_default=True,
               help="Matched budget: 'reference' (each reference's length in words) or a number of words.")
-@click.option("--methods", default=",".join(MATCHED_METHODS), show_default=True,
+@click.option("--methods", default="lead,tfidf,textrank,oracle", show_default=True,
               help="Methods to summarize at the matched budget (oracle: upper bound; random: chance level).")
 @click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
 @click.option("--json", "as_json", is_flag=True, help="Print the outcome as JSON.")
@@ -269,6 +266,10 @@ def score(db_path, budget, methods, wait_lock, as_json):
     matched budget, and the oracle is added at every budget already stored; then
     every summary without scores is scored. A rerun scores only what is new.
     """
+    # The evaluation modules are imported by their commands only: scipy.stats and
+    # NLTK would add most of a second to the start of every other command.
+    from summarize.evaluate import score as score_summaries
+
     _open_existing(db_path).close()
     try:
         outcome = score_summaries(
@@ -291,13 +292,15 @@ def score(db_path, budget, methods, wait_lock, as_json):
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
 @click.option("--budget", default="all", show_default=True,
               help="Which budget to show: 'all', 'reference' (matched) or a number of words.")
-@click.option("--measure", type=click.Choice(MEASURES), default="f1", show_default=True)
+@click.option("--measure", type=click.Choice(("f1", "precision", "recall")), default="f1", show_default=True)
 @click.option("--resamples", type=click.IntRange(100), default=1000, show_default=True, help="Bootstrap resamples.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
 @click.option("--json", "as_json", is_flag=True, help="Print the comparison as JSON.")
 def compare(db_path, budget, measure, resamples, seed, as_json):
     """Compare methods on the stored scores: mean ROUGE per method with bootstrap
     intervals, paired differences from lead, and how much each method copies."""
+    from summarize.compare import compare as compare_methods, format_comparison
+
     _open_existing(db_path).close()
     try:
         comparison = compare_methods(db_path, measure=measure, budget=budget, resamples=resamples, seed=seed)
@@ -318,7 +321,6 @@ def compare(db_path, budget, measure, resamples, seed, as_json):
 def report(db_path, out_path, budget, examples, resamples, seed):
     """Write one self-contained HTML report: comparison tables, charts, and the
     best- and worst-scored documents with the chosen sentences highlighted."""
-    # Imported here: matplotlib is only needed by this command.
     from summarize.report import report as write_report
 
     _open_existing(db_path).close()
