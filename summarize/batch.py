@@ -278,6 +278,10 @@ def run_archive(
     progress = progress or Progress()
     stop = stop or StopConditions()
     active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
+    # A model that cannot be loaded stops the run here, before the store is touched.
+    for method in active:
+        if hasattr(method, "load"):
+            method.load()
     lock = StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress.message)
     with lock, stop:
         if lock.stale_holder:
@@ -291,6 +295,7 @@ def run_archive(
         config = {
             "paths": paths,
             "methods": {m.name: m.get_params() for m in active},
+            "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
             "record_fields": asdict(fields),
             "workers": workers,
             "scheduler": scheduler,
