@@ -312,12 +312,14 @@ def run_archive(
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"
             )
             if stop.reason():
-                report.documents_remaining = len(_pending(store, document_ids, active, report))
+                # Each file not read yet holds at least one document still to do.
+                pending = len(_pending(store, document_ids, active, report))
+                report.documents_remaining = pending + report.files_unread
             else:
                 _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
             report.stop_reason = stop.reason()
             if report.stop_reason:
-                unread = f" and {report.files_unread} files not read yet" if report.files_unread else ""
+                unread = f" (at least: {report.files_unread} files not read yet)" if report.files_unread else ""
                 progress.message(
                     f"{report.stop_reason}: {report.documents_remaining} documents remain to summarize{unread}; "
                     "rerun the same command to finish them"

@@ -16,7 +16,11 @@ log.addHandler(logging.NullHandler())
 
 
 def configure_log_file(path: str | None) -> None:
-    """Send every progress message and error to ``path`` as well (appending)."""
+    """Send every progress message and error to ``path`` as well (appending), instead
+    of any log file set before in this process."""
+    for handler in [h for h in log.handlers if isinstance(h, logging.FileHandler)]:
+        log.removeHandler(handler)
+        handler.close()
     if not path:
         return
     handler = logging.FileHandler(path, encoding="utf-8")
