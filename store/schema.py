@@ -12,6 +12,8 @@ One file holds everything, readable with any SQLite tool:
     sentence_sources     the source span(s) behind each summary sentence
     flags                faithfulness warnings on summaries
     scores               ROUGE and other metrics per summary
+    learned_models       trained sentence scorers (version 2): the fitted model,
+                         what it was trained on, and its cross-validated scores
 
 Full-text search (FTS5) covers document titles and summary texts.
 """
@@ -20,7 +22,7 @@ from __future__ import annotations
 
 import sqlite_utils
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
 
 def _create_v1(db: sqlite_utils.Database) -> None:
@@ -122,7 +124,30 @@ def _create_v1(db: sqlite_utils.Database) -> None:
     db["summaries"].enable_fts(["text"], create_triggers=True, tokenize="porter")
 
 
-MIGRATIONS = {1: _create_v1}
+def _create_v2(db: sqlite_utils.Database) -> None:
+    """Version 2 adds the trained sentence scorers. ``model`` holds the pickled fitted
+    method (scikit-learn model and feature extractor), so only stores from a trusted
+    source should be opened; ``features`` is the feature list it expects."""
+    db["learned_models"].create(
+        {
+            "id": int,
+            "name": str,
+            "created": str,
+            "run_id": int,
+            "params": str,
+            "features": str,
+            "training_documents": str,
+            "metrics": str,
+            "versions": str,
+            "model": bytes,
+        },
+        pk="id",
+        foreign_keys=[("run_id", "runs", "id")],
+    )
+    db["learned_models"].create_index(["name", "created"])
+
+
+MIGRATIONS = {1: _create_v1, 2: _create_v2}
 
 
 def open_database(path: str) -> sqlite_utils.Database:
