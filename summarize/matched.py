@@ -73,7 +73,12 @@ def budget_label(params: dict) -> str:
     try:
         return str(Budget(**params["budget"]))
     except (KeyError, TypeError, ValueError):
-        return "the method's own length setting"
+        pass
+    generation = params.get("generation") if isinstance(params.get("generation"), dict) else {}
+    if "max_new_tokens" in generation:
+        low = generation.get("min_new_tokens", 0)
+        return f"the method's own length: {low} to {generation['max_new_tokens']} generated tokens"
+    return "the method's own length setting"
 
 
 def is_matched(params: dict) -> bool:

@@ -13,9 +13,11 @@ import sqlite3
 import pytest
 from click.testing import CliRunner
 
+from store.writes import Store
 from summarize.batch import run_archive
 from summarize.budget import Budget, count_words
 from summarize.cli import main
+from summarize.document import SourceLink, Span, Summary, SummarySentence
 from summarize.matched import BUDGET_RULE_KEY
 
 PLANTED = "<script>alert('x')</script>"
@@ -157,3 +159,28 @@ def test_report_is_one_self_contained_escaped_html_file(archive_store, tmp_path)
 def test_missing_store_is_an_error_not_a_new_file(tmp_path):
     result = CliRunner().invoke(main, ["score", "--db", str(tmp_path / "none.sqlite")])
     assert result.exit_code != 0 and not (tmp_path / "none.sqlite").exists()
+
+
+def test_summaries_with_their_own_length_are_reported_apart(tmp_path):
+    folder = tmp_path / "archive"
+    folder.mkdir()
+    for name in list(REPORTS)[1:3]:
+        title, body, reference = REPORTS[name]
+        (folder / f"{name}.txt").write_text(f"{title}\n\n{body}\n", encoding="utf-8")
+        (folder / f"{name}.summary.txt").write_text(reference + "\n", encoding="utf-8")
+    db = tmp_path / "own.sqlite"
+    run_archive([folder], str(db), methods=["lead"])
+    # A generated summary whose length the model settled, as the seq2seq method stores it.
+    store = Store(str(db))
+    run_id = store.begin_run("test", {})
+    for document_id, text in rows(db, "select id, text from documents"):
+        sentence = SummarySentence("Supply was cut and later restored.", 0.0, (SourceLink(Span(0, len(text)), 0.4),))
+        params = {"model": "invented", "generation": {"min_new_tokens": 8, "max_new_tokens": 60}}
+        store.add_summary(document_id, run_id, Summary("seq2seq", params, [sentence]))
+    store.close()
+    CliRunner().invoke(main, ["score", "--db", str(db)])
+    comparison = json.loads(CliRunner().invoke(main, ["compare", "--db", str(db), "--json"]).stdout)
+    groups = {group["budget"]: [s["name"] for s in group["systems"]] for group in comparison["budgets"]}
+    assert groups["the method's own length: 8 to 60 generated tokens"] == ["seq2seq"]
+    assert "seq2seq" not in groups["matched: each reference's length in words"]
+    assert list(groups)[-1].startswith("the method's own length")
