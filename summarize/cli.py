@@ -20,6 +20,7 @@ from summarize.batch import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
 from summarize.budget import Budget
 from summarize.ingest import RecordFields
 from summarize.jobfile import load_job
+from summarize.models import ModelLoadError
 from summarize.progress import Progress, configure_log_file, log as run_log
 from summarize.runcontrol import StopConditions, parse_until
 from summarize.runlock import StoreLocked
@@ -92,9 +93,23 @@ def _load_job_defaults(ctx, _param, value):
 @click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
 @click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
 @click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
+@click.option("--model", default=None,
+              help="seq2seq: checkpoint directory, or a repository id already in the local Hugging Face cache.")
+@click.option("--allow-pickle-weights", is_flag=True,
+              help="seq2seq: accept a checkpoint whose only weights are pickle files (they can run code: trusted sources only).")
+@click.option("--seq2seq-profile", type=click.Choice(["quality", "fast"]), default=None,
+              help="seq2seq: 'quality' (default; beam search, float32) or 'fast' (greedy, int8, 80 new tokens, batches of 8).")
+@click.option("--threads", type=click.IntRange(1), default=None, help="seq2seq: CPU threads for the model.")
+@click.option("--batch-size", type=click.IntRange(1), default=None, help="seq2seq: inputs generated together.")
+@click.option("--quantize/--no-quantize", default=None, help="seq2seq: int8 weights in linear layers (default: per profile).")
+@click.option("--max-input-tokens", type=click.IntRange(1), default=None,
+              help="seq2seq: input window in tokens (default: the model's own).")
+@click.option("--long-mode", type=click.Choice(["select", "chunks"]), default=None,
+              help="seq2seq: read the most salient sentences that fit (select, default) or the whole document in chunks.")
 @click.pass_context
 def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
-        text_field, title_field, summary_field, date_field, id_field, as_json):
+        text_field, title_field, summary_field, date_field, id_field, as_json, model, allow_pickle_weights,
+        seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode):
     """Read every document under PATHS, summarize it with each method, store it.
 
     A rerun does only what is missing. Exit status: 0 all done; 1 nothing could be
@@ -110,13 +125,24 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
         raise click.UsageError("--db is required (or a --job file with db)")
     configure_log_file(log)
     fields = RecordFields(text=text_field, title=title_field, summary=summary_field, date=date_field, id=id_field)
-    seq2seq_options = dict(job.get("seq2seq", {}))
+    method_names = [m.strip() for m in methods.split(",") if m.strip()]
+    given = {
+        "model": model,
+        "allow_pickle": allow_pickle_weights or None,
+        "profile": seq2seq_profile,
+        "threads": threads,
+        "batch_size": batch_size,
+        "quantize": quantize,
+        "max_input_tokens": max_input_tokens,
+        "long_mode": long_mode,
+    }
+    seq2seq_options = _seq2seq_options(job.get("seq2seq", {}), given, method_names)
     try:
         stop = StopConditions(until=parse_until(until) if until else None, max_minutes=max_minutes)
         report = run_archive(
             paths,
             db,
-            methods=[m.strip() for m in methods.split(",") if m.strip()],
+            methods=method_names,
             budget=budget,
             mmr_lambda=mmr,
             fields=fields,
@@ -127,7 +153,7 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
             lock_wait_seconds=wait_lock,
             progress=Progress(quiet=quiet),
         )
-    except (ValueError, StoreLocked, RuntimeError) as error:
+    except (ValueError, StoreLocked, RuntimeError, ModelLoadError) as error:
         run_log.error(str(error))
         _fail(str(error))
     except KeyboardInterrupt:  # a second Ctrl-C: every finished document is already committed
@@ -142,6 +168,50 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
     if report.stop_reason:
         click.echo(f"stopped early ({report.stop_reason}); rerun the same command to finish", err=True)
     sys.exit(report.exit_status)
+
+
+def _seq2seq_options(from_job: dict, given: dict, method_names: list[str]) -> dict:
+    """The job file's [seq2seq] settings with the flags given on top, checked."""
+    options = {**from_job, **{key: value for key, value in given.items() if value is not None}}
+    if given["model"] and "seq2seq" not in method_names:
+        raise click.UsageError("--model is for the seq2seq method: add seq2seq to --methods")
+    if "seq2seq" not in method_names:
+        return options
+    if not options.get("model"):
+        raise click.UsageError("the seq2seq method needs --model DIR (or model in the job file's [seq2seq] table)")
+    from dataclasses import fields
+
+    from summarize.abstractive import Seq2SeqSummarizer
+
+    known = {f.name for f in fields(Seq2SeqSummarizer) if f.init}
+    unknown = sorted(set(options) - known)
+    if unknown:
+        raise click.UsageError(f"unknown seq2seq setting(s) {', '.join(unknown)} (known: {', '.join(sorted(known))})")
+    return options
+
+
+@main.command("fetch-model")
+@click.argument("repo_id")
+@click.option("--dest", required=True, type=click.Path(file_okay=False), help="Directory to put the checkpoint in.")
+@click.option("--revision", default=None, help="Branch, tag or commit to fetch (default: the main branch).")
+@click.option("--allow-pickle-weights", is_flag=True,
+              help="Also fetch pickle weights (pytorch_model.bin) when the repository has no safetensors.")
+def fetch_model(repo_id, dest, revision, allow_pickle_weights):
+    """Copy checkpoint REPO_ID from the Hugging Face Hub into --dest (needs a network),
+    then check that it loads. Runs use it with `--model DIR`, offline."""
+    from summarize.fetch import CheckpointFetchError, fetch_checkpoint
+    from summarize.models import load_checkpoint
+
+    try:
+        path = fetch_checkpoint(repo_id, dest, allow_pickle=allow_pickle_weights, revision=revision)
+        checkpoint = load_checkpoint(path, allow_pickle=allow_pickle_weights)
+    except (CheckpointFetchError, ModelLoadError) as error:
+        _fail(str(error))
+    identity = checkpoint.identity
+    click.echo(
+        f"fetched {repo_id} into {path}: {identity['model_type']}, {identity['parameters']:,} parameters, "
+        f"{identity['weights_format']} weights, input window {checkpoint.input_window} tokens"
+    )
 
 
 def _run_summary(run_id: int, counts: dict) -> str:
