@@ -188,6 +188,13 @@ class Seq2SeqSummarizer:
             "threads": self.threads if self.threads is not None else torch.get_num_threads(),
         }
 
+    @property
+    def batch_documents(self) -> int:
+        """How many documents the runner hands to ``summarize_many`` at once: a few
+        batches' worth, so length sorting has something to sort."""
+        self.load()
+        return 4 * self.batch_size_
+
     def fit(self, texts: list[str]) -> Seq2SeqSummarizer:
         """Fit the salience ranker's IDF over the archive (one text per document)."""
         self.ranker_ = TfidfSummarizer(stop_words=self.stop_words).fit(texts)

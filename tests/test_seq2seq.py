@@ -320,6 +320,7 @@ def test_run_archive_stores_seq2seq_summaries_with_sources_and_flags(trained_t5,
     }
     assert seq2seq["model"]["model_type"] == "t5"
     assert len(seq2seq["model"]["weights_sha256"]["model.safetensors"]) == 64
+    assert config["runtime"]["seq2seq"]["threads"] == 1
     db.close()
 
     # A rerun with the same model and settings finds everything stored.
@@ -343,3 +344,15 @@ def test_spans_in_the_store_slice_back_to_source_sentences(trained_t5, tmp_path)
     stored = {Span(s, e) for s, e in db.execute("select start, end from document_sentences").fetchall()}
     assert spans and all(Span(s, e) in stored and text[s:e].strip() for s, e in spans)
     db.close()
+
+
+def test_an_unusable_model_stops_run_archive_before_the_store_is_opened(tmp_path):
+    from summarize.models import ModelLoadError
+
+    archive = tmp_path / "archive"
+    archive.mkdir()
+    (archive / "tower.txt").write_text(colour_report("red") + "\n", encoding="utf-8")
+    db_path = tmp_path / "store.sqlite"
+    with pytest.raises(ModelLoadError):
+        run_archive([archive], str(db_path), methods=["lead", "seq2seq"], seq2seq_options={"model": str(tmp_path / "none")})
+    assert not db_path.exists()

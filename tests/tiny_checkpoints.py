@@ -168,12 +168,14 @@ def colour_summary(colour: str) -> str:
 def build_trained_t5(directory: Path, steps: int = 200, seed: int = 0) -> tuple[Path, list[float]]:
     """A tiny T5 (d_model 64) trained with AdamW on ``colour_report -> colour_summary``,
     with the T5 task prefix in its inputs. Returns the directory and the loss per step
-    (empty when the directory was already built)."""
+    (kept in ``training_losses.json`` beside the model)."""
+    import json
+
     import torch
     from transformers import PreTrainedTokenizerFast, T5ForConditionalGeneration
 
-    if _complete(directory, "config.json", "model.safetensors", "tokenizer.json"):
-        return directory, []
+    if _complete(directory, "config.json", "model.safetensors", "tokenizer.json", "training_losses.json"):
+        return directory, json.loads((directory / "training_losses.json").read_text())
     sources = [COLOUR_PREFIX + colour_report(colour) for colour in COLOUR_CODES]
     targets = [colour_summary(colour) for colour in COLOUR_CODES]
     tokenizer = train_tokenizer(extra_text=sources + targets)
@@ -197,4 +199,5 @@ def build_trained_t5(directory: Path, steps: int = 200, seed: int = 0) -> tuple[
     model.eval()
     model.save_pretrained(directory, safe_serialization=True)
     wrapped.save_pretrained(directory)
+    (directory / "training_losses.json").write_text(json.dumps(losses))
     return directory, losses
