@@ -14,6 +14,7 @@ from __future__ import annotations
 import pytest
 
 from store.writes import Store
+from summarize.bootstrap import PercentileBootstrap
 from summarize.compare import compare
 from summarize.datasets import load_aclsum
 from summarize.evaluate import score
@@ -39,8 +40,6 @@ def comparison(tmp_path_factory):
 
 
 def paired(systems, better: str, worse: str, metric: str):
-    from summarize.bootstrap import PercentileBootstrap
-
     a, b = systems[better].per_document, systems[worse].per_document
     shared = sorted(set(a) & set(b))
     assert len(shared) == 60
