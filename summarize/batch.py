@@ -29,7 +29,7 @@ from pathlib import Path
 from store.writes import Store
 from summarize.budget import Budget
 from summarize.document import Document, Segmentation, Span, param_hash
-from summarize.executors import make_executor
+from summarize.executors import check_scheduler, make_executor
 from summarize.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
 from summarize.progress import Progress
@@ -282,6 +282,8 @@ def run_archive(
     for method in active:
         if hasattr(method, "load"):
             method.load()
+    if scheduler:
+        check_scheduler(scheduler)
     lock = StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress.message)
     with lock, stop:
         if lock.stale_holder:

@@ -20,6 +20,7 @@ Job = tuple[int, tuple[Document, Segmentation], list[str]]
 Outcome = tuple[int, Document, list[tuple[str, object]]]
 
 _worker_methods: dict = {}
+CONNECT_TIMEOUT = "10s"
 
 
 def summarize_document(methods: dict, document: Document, segmentation: Segmentation, names: list[str]) -> list:
@@ -130,6 +131,21 @@ class ProcessExecutor(_WindowedExecutor):
         return wait(futures, return_when=FIRST_COMPLETED).done
 
 
+def connect_scheduler(address: str):
+    """A Dask client for the scheduler at ``address``, or a one-line RuntimeError."""
+    from distributed import Client
+
+    try:
+        return Client(address, timeout=CONNECT_TIMEOUT)
+    except OSError as error:
+        raise RuntimeError(f"cannot reach the Dask scheduler at {address}: {error}") from None
+
+
+def check_scheduler(address: str) -> None:
+    """Fail before a long run starts rather than after reading the whole archive."""
+    connect_scheduler(address).close()
+
+
 class DaskExecutor(_WindowedExecutor):
     """An existing Dask distributed cluster at ``address`` (``tcp://host:8786``).
 
@@ -142,12 +158,7 @@ class DaskExecutor(_WindowedExecutor):
         self.address = address
 
     def __enter__(self):
-        from distributed import Client
-
-        try:
-            self.client = Client(self.address, timeout="20s")
-        except OSError as error:
-            raise RuntimeError(f"cannot reach the Dask scheduler at {self.address}: {error}") from None
+        self.client = connect_scheduler(self.address)
         try:
             self.client.wait_for_workers(1, timeout=60)
         except TimeoutError:
