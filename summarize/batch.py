@@ -44,7 +44,9 @@ EXIT_FAILED = 1
 EXIT_SOME_FILES_FAILED = 3
 EXIT_STOPPED_EARLY = 4
 
-METHOD_NAMES = (*EXTRACTIVE_METHODS, "seq2seq")
+# Methods settled once the archive is read (summarize/method_choice.py).
+RUN_TIME_METHOD_NAMES = ("house-style", "auto")
+METHOD_NAMES = (*EXTRACTIVE_METHODS, "seq2seq", *RUN_TIME_METHOD_NAMES)
 
 
 @dataclass
@@ -107,6 +109,11 @@ def build_methods(
             from summarize.abstractive import Seq2SeqSummarizer
 
             methods.append(Seq2SeqSummarizer(**(seq2seq_options or {})))
+            continue
+        if name in RUN_TIME_METHOD_NAMES:
+            from summarize.method_choice import RUN_TIME_METHODS
+
+            methods.append(RUN_TIME_METHODS[name](budget=budget, mmr_lambda=mmr_lambda))
             continue
         if name not in EXTRACTIVE_METHODS:
             raise ValueError(f"unknown method {name!r} (known: {', '.join(METHOD_NAMES)})")
@@ -313,6 +320,8 @@ def run_archive(
                 f"read {report.documents_seen} documents ({report.documents_added} new, "
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"
             )
+            if not stop.reason():
+                active = _resolve_run_time_methods(store, run_id, active, config, progress)
             if stop.reason():
                 # Each file not read yet holds at least one document still to do.
                 pending = len(_pending(store, document_ids, active, report))
@@ -335,6 +344,24 @@ def run_archive(
     return report
 
 
+def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: dict, progress: Progress) -> list:
+    """Methods that depend on the store (a trained model, a choice by held-out ROUGE)
+    become concrete once the archive is read; the run's configuration records what
+    each became and why."""
+    deferred = [method for method in active if hasattr(method, "resolve")]
+    if not deferred:
+        return active
+    resolved: list = []
+    for method in active:
+        concrete = method.resolve(store, run_id, progress.message) if hasattr(method, "resolve") else method
+        if not any(m.name == concrete.name and m.get_params() == concrete.get_params() for m in resolved):
+            resolved.append(concrete)
+    config["decisions"] = {method.name: method.decision for method in deferred}
+    config["methods"] = {method.name: method.get_params() for method in resolved}
+    store.update_run_config(run_id, config)
+    return resolved
+
+
 def _pending(store: Store, document_ids: list[int], active: list, report: RunReport) -> dict[int, set[str]]:
     """Method names still to run, per document (one query per method); counts the
     summaries already stored as skipped."""
@@ -344,7 +371,12 @@ def _pending(store: Store, document_ids: list[int], active: list, report: RunRep
     }
     todo: dict[int, set[str]] = {}
     for document_id in document_ids:
-        names = {method.name for method in active if document_id not in done[method.name]}
+        names = {
+            method.name
+            for method in active
+            if document_id not in done[method.name]
+            and document_id not in getattr(method, "exclude_document_ids", ())
+        }
         report.summaries_skipped += len(active) - len(names)
         if names:
             todo[document_id] = names
