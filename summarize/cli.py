@@ -399,3 +399,77 @@ def report(db_path, out_path, budget, examples, resamples, seed):
     except ValueError as error:
         _fail(str(error))
     click.echo(f"wrote {written}")
+
+
+@main.command()
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--folds", type=click.IntRange(2), default=5, show_default=True,
+              help="Cross-validation folds over documents (lowered so each keeps at least four documents).")
+@click.option("--model", "model_kind", type=click.Choice(("gradient-boosting", "logistic")),
+              default="gradient-boosting", show_default=True, help="The classifier behind the sentence scores.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for folds and model.")
+@click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
+@click.option("--json", "as_json", is_flag=True, help="Print the training outcome and comparison as JSON.")
+def train(db_path, folds, model_kind, seed, wait_lock, as_json):
+    """Train the house-style method on the documents that have reference summaries.
+
+    Each referenced document first gets a held-out summary from a model trained on
+    the other folds, scored beside lead, TF-IDF, TextRank and the oracle at the
+    reference's length; then the method is trained on all of them and kept in the
+    store, where `summarize run --methods house-style` finds it. Needs at least 20
+    documents with reference summaries.
+    """
+    from summarize.compare import compare as compare_methods, format_comparison
+    from summarize.training import TooFewReferences, train as train_method
+
+    _open_existing(db_path).close()
+    say = (lambda text: click.echo(text, err=True)) if not as_json else None
+    try:
+        run_id, outcome = train_method(db_path, folds=folds, model=model_kind, seed=seed, progress=say,
+                                       lock_wait_seconds=wait_lock)
+    except (TooFewReferences, StoreLocked) as error:
+        _fail(f"{error} (`summarize choose` picks the best fixed method instead)")
+    comparison = compare_methods(db_path, budget="reference")
+    if as_json:
+        click.echo(json.dumps({"run_id": run_id, **outcome.as_dict(), "comparison": comparison.as_dict()}, indent=2))
+        return
+    kept = "reused stored model" if outcome.reused_model else "stored model"
+    click.echo(
+        f"train run {run_id}: {kept} #{outcome.model_id}, trained on {outcome.documents} documents; "
+        f"{outcome.folds}-fold held-out summaries added: {outcome.held_out_added}; {outcome.seconds:.1f}s\n"
+    )
+    click.echo(format_comparison(comparison))
+
+
+@main.command()
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--folds", type=click.IntRange(2), default=5, show_default=True, help="Cross-validation folds for house-style.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for folds and model.")
+@click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
+@click.option("--json", "as_json", is_flag=True, help="Print the decision as JSON.")
+def choose(db_path, folds, seed, wait_lock, as_json):
+    """Pick the method that does best on the documents with reference summaries.
+
+    Lead, TF-IDF, TextRank and (with at least 20 referenced documents) house-style
+    are compared held out, at each reference's length, by the mean of ROUGE-1,
+    ROUGE-2 and ROUGE-L F1. `summarize run --methods auto` makes the same choice and
+    applies it. The decision is kept in the store as a run of its own.
+    """
+    from summarize.method_choice import choose as choose_method
+
+    _open_existing(db_path).close()
+    say = lambda text: click.echo(text, err=True)  # noqa: E731 - one-line progress sink
+    try:
+        run_id, decision = choose_method(db_path, folds=folds, seed=seed, say=say, lock_wait_seconds=wait_lock)
+    except StoreLocked as error:
+        _fail(str(error))
+    if as_json:
+        click.echo(json.dumps({"run_id": run_id, **decision.as_dict()}, indent=2))
+        return
+    click.echo(f"choose run {run_id}: {decision.method}{' (fallback)' if decision.fallback else ''}")
+    click.echo(f"  why: {decision.reason}")
+    if decision.scores:
+        click.echo(f"  score: {decision.selection_rule}")
+        for name, value in sorted(decision.scores.items(), key=lambda item: -item[1]):
+            click.echo(f"    {name:<12} {100 * value:6.2f}")
+    click.echo(f"\n{CAUTION}")

@@ -196,3 +196,26 @@ class AutoForRun:
 
 
 RUN_TIME_METHODS = {LEARNED: HouseStyleForRun, "auto": AutoForRun}
+
+
+def choose(
+    db_path: str, folds: int = 5, seed: int = 0, say: Callable[[str], None] | None = None,
+    lock_wait_seconds: float = 0.0,
+) -> tuple[int, Decision]:
+    """:func:`choose_in_store` as a run of its own (command ``choose``), under the
+    store's writer lock; the decision is kept in the run's configuration."""
+    from summarize.runlock import StoreLock
+
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=say):
+        store = Store(db_path)
+        config = {"folds": folds, "seed": seed, "selection_rule": SELECTION_RULE}
+        run_id = store.begin_run("choose", config)
+        status = "failed"
+        try:
+            decision = choose_in_store(store, run_id, folds, seed, say)
+            store.update_run_config(run_id, {**config, "decisions": {"auto": decision.as_dict()}})
+            status = "completed"
+        finally:
+            store.finish_run(run_id, status, {})
+            store.close()
+    return run_id, decision

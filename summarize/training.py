@@ -200,3 +200,29 @@ def train_in_store(
         )
     report.seconds = time.perf_counter() - started
     return report
+
+
+def train(
+    db_path: str,
+    folds: int = 5,
+    model: str = "gradient-boosting",
+    seed: int = 0,
+    progress: Callable[[str], None] | None = None,
+    lock_wait_seconds: float = 0.0,
+) -> tuple[int, TrainingReport]:
+    """:func:`train_in_store` as a run of its own (command ``train``), under the
+    store's writer lock; returns the run id and the report."""
+    from summarize.runlock import StoreLock
+
+    prototype = HouseStyleSummarizer(model=model, seed=seed)
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
+        store = Store(db_path)
+        run_id = store.begin_run("train", {"method": prototype.name, "params": prototype.get_params(), "folds": folds})
+        status, counts = "failed", {}
+        try:
+            report = train_in_store(store, run_id, prototype, folds, progress)
+            status, counts = "completed", report.as_dict()
+        finally:
+            store.finish_run(run_id, status, counts)
+            store.close()
+    return run_id, report
