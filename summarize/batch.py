@@ -4,8 +4,9 @@
 
 Two passes, one direction:
 
-1. *Read*: every file is read, split and stored (one small transaction per document)
-   unless the same record with the same content hash is already stored. Unreadable
+1. *Read*: every file is read, and split and stored (one small transaction per
+   document) unless the same record with the same content hash is already stored;
+   splitting runs wherever the summaries will (here, worker processes, Dask). Unreadable
    files are recorded with their reason; stored records whose file has gone are
    marked ``missing``, never deleted.
 2. *Summarize*: archive-wide statistics are fitted on the documents read (TF-IDF's
@@ -36,7 +37,6 @@ from summarize.progress import Progress
 from summarize.readers.sidecars import is_sidecar_name
 from summarize.runcontrol import StopConditions
 from summarize.runlock import StoreLock, describe_holder
-from summarize.split import split_document
 
 # Exit statuses of `summarize run` (documented in the README).
 EXIT_OK = 0
@@ -199,50 +199,62 @@ def _archive_files(paths: list[str]) -> Iterator[str]:
                     yield str(entry)
 
 
-def _read_archive(store, run_id, paths, fields, report, progress, stop) -> list[int]:
-    """Pass 1. Returns the ids of the current, non-duplicate documents seen."""
+def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler) -> list[int]:
+    """Pass 1. Returns the ids of the current, non-duplicate documents seen.
+
+    This process reads the files and writes the store; splitting new documents into
+    sentences (the costly part) goes to the executor, and comes back in archive order.
+    """
     seen_keys: set[str] = set()
     files_visited: set[str] = set()
     files_failed: set[str] = set()
     document_ids: list[int] = []
     walked_everything = True
-    progress.start(None, "files read")
-    for item in iter_archive(paths, fields):
-        if stop.reason():
-            walked_everything = False
-            break
-        if isinstance(item, IngestProblem):
-            files_visited.add(_file_of(item.path))
-            store.record_problem(run_id, item.path, item.kind, item.reason)
-            if item.kind == "error":
-                files_failed.add(_file_of(item.path))
-                report.errors.append(str(item))
-                progress.error(str(item))
-            else:
-                report.skipped_files.append(str(item))
-            continue
-        if item.path not in files_visited:
-            files_visited.add(item.path)
-            progress.advance()
-        seen_keys.add(item.record_key)
-        if store.find_document(item.record_key, item.sha256) is not None:
-            document_id, added, status = store.add_document(item, None, run_id)
-        else:
-            try:
-                segmentation = split_document(item)
-            except Exception as error:  # one file's splitter fault must not stop the batch
-                reason = f"could not split into sentences ({error})"
-                store.record_problem(run_id, item.record_key, "error", reason)
-                report.errors.append(f"{item.record_key}: {reason}")
-                progress.error(f"{item.record_key}: {reason}")
-                continue
-            document_id, added, status = store.add_document(item, segmentation, run_id)
+
+    def counted(document_id: int, added: bool, status: str) -> None:
         report.documents_seen += 1
         report.documents_added += int(added)
         if status == "duplicate":
             report.duplicates += 1
-            continue
-        document_ids.append(document_id)
+        else:
+            document_ids.append(document_id)
+
+    def new_documents() -> Iterator[Document]:
+        """Walk the archive; record problems and known documents at once; yield the
+        documents to split and store."""
+        nonlocal walked_everything
+        for item in iter_archive(paths, fields):
+            if stop.reason():
+                walked_everything = False
+                return
+            if isinstance(item, IngestProblem):
+                files_visited.add(_file_of(item.path))
+                store.record_problem(run_id, item.path, item.kind, item.reason)
+                if item.kind == "error":
+                    files_failed.add(_file_of(item.path))
+                    report.errors.append(str(item))
+                    progress.error(str(item))
+                else:
+                    report.skipped_files.append(str(item))
+                continue
+            if item.path not in files_visited:
+                files_visited.add(item.path)
+                progress.advance()
+            seen_keys.add(item.record_key)
+            if store.find_document(item.record_key, item.sha256) is not None:
+                counted(*store.add_document(item, None, run_id))
+            else:
+                yield item
+
+    progress.start(None, "files read")
+    with make_executor([], workers=workers, scheduler=scheduler) as executor:
+        for document, segmentation in executor.split_documents(new_documents(), stop):
+            if isinstance(segmentation, Exception):
+                store.record_problem(run_id, document.record_key, "error", str(segmentation))
+                report.errors.append(f"{document.record_key}: {segmentation}")
+                progress.error(f"{document.record_key}: {segmentation}")
+                continue
+            counted(*store.add_document(document, segmentation, run_id))
     progress.close()
     if not walked_everything:
         report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
@@ -315,7 +327,7 @@ def run_archive(
         report = RunReport(run_id=run_id)
         status = "failed"
         try:
-            document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop)
+            document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler)
             progress.message(
                 f"read {report.documents_seen} documents ({report.documents_added} new, "
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"

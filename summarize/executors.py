@@ -1,6 +1,10 @@
 """Where per-document work runs: in this process, in local worker processes, or on an
-existing Dask distributed cluster. Only the calling process ever writes the store;
-workers receive a document and its segmentation and return summaries (or the error).
+existing Dask distributed cluster. Only the calling process ever writes the store.
+
+Two kinds of work are sent out: splitting a new document into sentences (pass 1;
+results come back in archive order, so which of two identical files is stored first,
+and so is the 'active' one, never depends on timing) and summarizing a document with
+the fitted methods (pass 2; results come back as they finish).
 
 Every executor keeps a bounded number of documents in flight (about two per worker),
 so a stop request is honoured after those few finish, and memory does not grow with
@@ -10,17 +14,19 @@ the archive. Work that never started when a stop came is cancelled.
 from __future__ import annotations
 
 from abc import ABC, abstractmethod
+from collections import deque
 from collections.abc import Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 
 from summarize.document import Document, Segmentation
+from summarize.split import split_document
 
 Job = tuple[int, tuple[Document, Segmentation], list[str]]
 Outcome = tuple[int, Document, list[tuple[str, object]]]
 
-_worker_methods: dict = {}
 CONNECT_TIMEOUT = "10s"
+_worker_methods: dict = {}
 
 
 def summarize_document(methods: dict, document: Document, segmentation: Segmentation, names: list[str]) -> list:
@@ -35,12 +41,20 @@ def summarize_document(methods: dict, document: Document, segmentation: Segmenta
     return outcomes
 
 
+def split_or_error(document: Document) -> Segmentation | Exception:
+    """The document's segmentation, or the splitter's failure as a plain RuntimeError."""
+    try:
+        return split_document(document)
+    except Exception as error:  # one file's splitter fault must not stop the batch
+        return RuntimeError(f"could not split into sentences ({type(error).__name__}: {error})")
+
+
 def _init_worker(methods: list) -> None:
     global _worker_methods
     _worker_methods = {method.name: method for method in methods}
 
 
-def _work_in_worker(document: Document, segmentation: Segmentation, names: list[str]) -> list:
+def _summarize_in_worker(document: Document, segmentation: Segmentation, names: list[str]) -> list:
     return summarize_document(_worker_methods, document, segmentation, names)
 
 
@@ -54,6 +68,12 @@ class InProcessExecutor:
     def __exit__(self, *exc) -> None:
         pass
 
+    def split_documents(self, documents: Iterable[Document], stop) -> Iterator[tuple[Document, object]]:
+        for document in documents:
+            if stop.reason():
+                return
+            yield document, split_or_error(document)
+
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         for document_id, (document, segmentation), names in jobs:
             if stop.reason():
@@ -62,13 +82,17 @@ class InProcessExecutor:
 
 
 class _WindowedExecutor(ABC):
-    """Shared submit/collect loop: at most ``window`` documents in flight."""
+    """Shared submit/collect loops: at most ``window`` documents in flight."""
 
     window = 4
 
     @abstractmethod
+    def _submit_split(self, document: Document):
+        """Start splitting one document; return a future."""
+
+    @abstractmethod
     def _submit(self, document: Document, segmentation: Segmentation, names: list[str]):
-        """Start one document's work; return a future."""
+        """Start summarizing one document; return a future."""
 
     @abstractmethod
     def _wait_any(self, futures: set) -> set:
@@ -77,6 +101,36 @@ class _WindowedExecutor(ABC):
     def _cancel_unstarted(self, futures: list) -> list:
         """Cancel what has not started; return the futures still to wait for."""
         return [future for future in futures if not future.cancel()]
+
+    @staticmethod
+    def _result(future, failure):
+        """The future's result; ``failure(error)`` when the worker or the transport
+        failed (not the work itself, whose errors come back as results)."""
+        try:
+            return future.result()
+        except BrokenProcessPool:
+            raise RuntimeError("a worker process died (out of memory or killed); rerun to continue") from None
+        except Exception as error:
+            return failure(RuntimeError(f"worker failed: {type(error).__name__}: {error}"))
+
+    def split_documents(self, documents: Iterable[Document], stop) -> Iterator[tuple[Document, object]]:
+        in_flight: deque = deque()
+        documents = iter(documents)
+        exhausted = False
+        while True:
+            while not exhausted and len(in_flight) < self.window and not stop.reason():
+                document = next(documents, None)
+                if document is None:
+                    exhausted = True
+                    break
+                in_flight.append((document, self._submit_split(document)))
+            if stop.reason():
+                still = set(self._cancel_unstarted([future for _, future in in_flight]))
+                in_flight = deque((document, future) for document, future in in_flight if future in still)
+            if not in_flight:
+                return
+            document, future = in_flight.popleft()
+            yield document, self._result(future, lambda error: error)
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         in_flight: dict = {}
@@ -96,17 +150,7 @@ class _WindowedExecutor(ABC):
                 return
             for future in self._wait_any(set(in_flight)):
                 document_id, document, names = in_flight.pop(future)
-                yield document_id, document, self._outcomes(future, names)
-
-    @staticmethod
-    def _outcomes(future, names: list[str]) -> list:
-        try:
-            return future.result()
-        except BrokenProcessPool:
-            raise RuntimeError("a worker process died (out of memory or killed); rerun to continue") from None
-        except Exception as error:  # the worker or the transport failed, not a method: fail this document
-            failure = RuntimeError(f"worker failed: {type(error).__name__}: {error}")
-            return [(name, failure) for name in names]
+                yield document_id, document, self._result(future, lambda error: [(name, error) for name in names])
 
 
 class ProcessExecutor(_WindowedExecutor):
@@ -124,8 +168,11 @@ class ProcessExecutor(_WindowedExecutor):
     def __exit__(self, *exc) -> None:
         self.pool.shutdown(wait=True, cancel_futures=True)
 
+    def _submit_split(self, document):
+        return self.pool.submit(split_or_error, document)
+
     def _submit(self, document, segmentation, names):
-        return self.pool.submit(_work_in_worker, document, segmentation, names)
+        return self.pool.submit(_summarize_in_worker, document, segmentation, names)
 
     def _wait_any(self, futures):
         return wait(futures, return_when=FIRST_COMPLETED).done
@@ -166,20 +213,24 @@ class DaskExecutor(_WindowedExecutor):
             raise RuntimeError(f"the Dask scheduler at {self.address} has no workers") from None
         # Two documents per worker thread: every thread stays busy, little waits at a stop.
         self.window = max(2, 2 * sum(self.client.nthreads().values()))
-        by_name = {method.name: method for method in self.methods}
-        [self.methods_future] = self.client.scatter([by_name], broadcast=True)
+        if self.methods:
+            by_name = {method.name: method for method in self.methods}
+            [self.methods_future] = self.client.scatter([by_name], broadcast=True)
         return self
 
     def __exit__(self, *exc) -> None:
         self.client.close()
 
-    def _submit(self, document, segmentation, names):
-        return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
-
     def _cancel_unstarted(self, futures: list) -> list:
         # Dask does not say which tasks have started; the window holds only about two
         # documents per worker thread, so they are all finished and kept.
         return futures
+
+    def _submit_split(self, document):
+        return self.client.submit(split_or_error, document, pure=False)
+
+    def _submit(self, document, segmentation, names):
+        return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
 
     def _wait_any(self, futures):
         from distributed import wait as dask_wait
@@ -188,7 +239,8 @@ class DaskExecutor(_WindowedExecutor):
 
 
 def make_executor(methods: list, workers: int = 1, scheduler: str | None = None):
-    """Pick the executor for a run's ``--workers`` / ``--scheduler`` settings."""
+    """Pick the executor for a run's ``--workers`` / ``--scheduler`` settings
+    (``methods`` may be empty when only splitting is sent out)."""
     if scheduler:
         return DaskExecutor(methods, scheduler)
     if workers > 1:
