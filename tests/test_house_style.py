@@ -284,3 +284,44 @@ def test_run_time_methods_are_built_by_name():
     house_style, auto = build_methods(["house-style", "auto"], budget=Budget(words=50), mmr_lambda=0.7)
     assert isinstance(house_style, HouseStyleForRun) and isinstance(auto, AutoForRun)
     assert house_style.budget == auto.budget == Budget(words=50) and auto.mmr_lambda == 0.7
+
+
+# command line ------------------------------------------------------------------------
+
+
+def test_train_command_prints_the_held_out_comparison_and_choose_records_the_choice(tmp_path):
+    from click.testing import CliRunner
+
+    from summarize.cli import main
+
+    write_archive(tmp_path / "archive", count=26, referenced=22)
+    db = str(tmp_path / "store.sqlite")
+    runner = CliRunner()
+    assert runner.invoke(main, ["run", str(tmp_path / "archive"), "--db", db, "--methods", "lead", "--quiet"]).exit_code == 0
+    trained = runner.invoke(main, ["train", "--db", db])
+    assert trained.exit_code == 0, trained.output
+    assert "stored model #1, trained on 22 documents" in trained.stdout
+    assert "Budget: matched: each reference's length in words" in trained.stdout
+    rows = [line.split() for line in trained.stdout.splitlines() if line.strip().startswith("house-style")]
+    assert rows and rows[0][1] == "22"  # held-out summaries of all 22 referenced reports
+    assert "check the source document" in trained.stdout
+
+    chosen = runner.invoke(main, ["choose", "--db", db, "--json"])
+    assert chosen.exit_code == 0, chosen.output
+    decision = json.loads(chosen.stdout)
+    assert decision["method"] == max(decision["scores"], key=decision["scores"].get)
+    assert run_config(db)["decisions"]["auto"]["method"] == decision["method"]
+
+
+def test_train_command_refuses_with_too_few_references(tmp_path):
+    from click.testing import CliRunner
+
+    from summarize.cli import main
+
+    write_archive(tmp_path / "archive", count=8, referenced=5)
+    db = str(tmp_path / "store.sqlite")
+    runner = CliRunner()
+    runner.invoke(main, ["run", str(tmp_path / "archive"), "--db", db, "--methods", "lead", "--quiet"])
+    result = runner.invoke(main, ["train", "--db", db])
+    assert result.exit_code == 1
+    assert "5 documents have a reference summary" in result.stderr and "summarize choose" in result.stderr
