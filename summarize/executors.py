@@ -13,6 +13,10 @@ the archive. Work that never started when a stop came is cancelled.
 
 from __future__ import annotations
 
+import os
+import signal
+import threading
+import time
 from abc import ABC, abstractmethod
 from collections import deque
 from collections.abc import Iterable, Iterator
@@ -26,6 +30,7 @@ Job = tuple[int, tuple[Document, Segmentation], list[str]]
 Outcome = tuple[int, Document, list[tuple[str, object]]]
 
 CONNECT_TIMEOUT = "10s"
+PARENT_CHECK_SECONDS = 1.0
 _worker_methods: dict = {}
 
 
@@ -49,9 +54,22 @@ def split_or_error(document: Document) -> Segmentation | Exception:
         return RuntimeError(f"could not split into sentences ({type(error).__name__}: {error})")
 
 
-def _init_worker(methods: list) -> None:
+def _init_worker(methods: list, parent: int) -> None:
     global _worker_methods
     _worker_methods = {method.name: method for method in methods}
+    # The run decides when to stop (a Ctrl-C reaches the whole process group): a
+    # worker finishes its document and is then shut down with the pool.
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        signal.signal(signum, signal.SIG_IGN)
+    threading.Thread(target=_exit_with_parent, args=(parent,), daemon=True).start()
+
+
+def _exit_with_parent(parent: int) -> None:
+    """A worker whose run was killed (kill -9 gives it no chance to stop its pool)
+    would otherwise wait for work forever."""
+    while os.getppid() == parent:
+        time.sleep(PARENT_CHECK_SECONDS)
+    os._exit(1)
 
 
 def _summarize_in_worker(document: Document, segmentation: Segmentation, names: list[str]) -> list:
@@ -162,7 +180,9 @@ class ProcessExecutor(_WindowedExecutor):
         self.window = 2 * workers
 
     def __enter__(self):
-        self.pool = ProcessPoolExecutor(max_workers=self.workers, initializer=_init_worker, initargs=(self.methods,))
+        self.pool = ProcessPoolExecutor(
+            max_workers=self.workers, initializer=_init_worker, initargs=(self.methods, os.getpid())
+        )
         return self
 
     def __exit__(self, *exc) -> None:

@@ -16,6 +16,7 @@ import time
 from datetime import datetime, timedelta
 from pathlib import Path
 
+import psutil
 import pytest
 import sqlite_utils
 from click.testing import CliRunner
@@ -102,6 +103,24 @@ def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archiv
         # after recording its own end (or before recording its start).
         assert statuses in ([], ["interrupted"], ["completed"])
         assert not Path(f"{db}.lock").exists()
+
+
+def test_kill_9_of_a_run_with_workers_leaves_no_worker_behind(archive_and_reference, tmp_path):
+    archive, reference, _ = archive_and_reference
+    db = tmp_path / "workers_killed.sqlite"
+    process = start_cli("run", str(archive), "--db", str(db), "--workers", "2", "--quiet")
+    try:
+        assert wait_for(lambda: len(psutil.Process(process.pid).children()) == 2 or process.poll() is not None, 120)
+        workers = psutil.Process(process.pid).children()
+        assert len(workers) == 2, "the run ended before it could be killed"
+    finally:
+        process.send_signal(signal.SIGKILL)
+        process.communicate(timeout=60)
+    _, alive = psutil.wait_procs(workers, timeout=30)
+    assert alive == []
+    assert_store_sound(db)
+    assert run_archive([archive], str(db), progress=Progress(stream=io.StringIO())).exit_status == 0
+    assert summaries(db) == summaries(reference)
 
 
 def test_time_budget_stops_cleanly_reports_what_remains_and_a_rerun_finishes(archive_and_reference, tmp_path):
