@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 import re
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -213,8 +214,32 @@ def _quiet_transformers():
             hf_logging.enable_progress_bar()
 
 
+@contextmanager
+def _offline():
+    """Hugging Face libraries in offline mode for the duration: on top of
+    ``local_files_only``, any lookup they would make on their own is refused too."""
+    from huggingface_hub import constants
+
+    previous_constant, previous_variable = constants.HF_HUB_OFFLINE, os.environ.get("HF_HUB_OFFLINE")
+    constants.HF_HUB_OFFLINE = True
+    os.environ["HF_HUB_OFFLINE"] = "1"
+    try:
+        yield
+    finally:
+        constants.HF_HUB_OFFLINE = previous_constant
+        if previous_variable is None:
+            os.environ.pop("HF_HUB_OFFLINE", None)
+        else:
+            os.environ["HF_HUB_OFFLINE"] = previous_variable
+
+
 def load_checkpoint(name: str | Path, allow_pickle: bool = False) -> Checkpoint:
     """Check and load a checkpoint (float32, evaluation mode) with its tokenizer."""
+    with _offline():
+        return _load_checkpoint(name, allow_pickle)
+
+
+def _load_checkpoint(name: str | Path, allow_pickle: bool) -> Checkpoint:
     path = resolve_checkpoint(name)
     config_data = _read_config_json(path)
     weight_files, pickled = _weight_files(path, allow_pickle)

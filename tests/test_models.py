@@ -238,3 +238,25 @@ def test_fetch_reports_a_connection_failure(tmp_path, monkeypatch):
         fetch_checkpoint("fictional-lab/tiny-t5", tmp_path / "dest")
     assert "could not reach the model hub: Name or service not known;" in _one_line(refused)
 
+
+
+def test_loading_switches_the_hub_to_offline_mode_and_back(tiny_t5, monkeypatch):
+    import os
+
+    import transformers
+    from huggingface_hub import constants
+    from transformers.utils.hub import is_offline_mode
+
+    monkeypatch.delenv("HF_HUB_OFFLINE", raising=False)
+    monkeypatch.setattr(constants, "HF_HUB_OFFLINE", False)
+    seen = []
+    original = transformers.AutoTokenizer.from_pretrained
+
+    def watching(*args, **kwargs):
+        seen.append((is_offline_mode(), os.environ.get("HF_HUB_OFFLINE")))
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(transformers.AutoTokenizer, "from_pretrained", watching)
+    load_checkpoint(tiny_t5)
+    assert seen == [(True, "1")]
+    assert constants.HF_HUB_OFFLINE is False and "HF_HUB_OFFLINE" not in os.environ
