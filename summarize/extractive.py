@@ -65,6 +65,18 @@ def _build_summary(
     )
 
 
+class CosineRows:
+    """Rows of the cosine-similarity matrix of l2-normalised sentence ``vectors``,
+    each computed when asked for (``rows[i]`` is ``vectors[i] · vectorsᵀ``, the same
+    numbers as row ``i`` of the full product), so MMR never holds all n² pairs."""
+
+    def __init__(self, vectors: sparse.csr_matrix):
+        self.vectors = sparse.csr_matrix(vectors)
+
+    def __getitem__(self, index: int) -> sparse.csr_matrix:
+        return self.vectors[index] @ self.vectors.T
+
+
 def mmr_order(
     relevance: np.ndarray, similarity: np.ndarray, candidates: list[int], lambda_: float
 ) -> list[int]:
@@ -74,24 +86,26 @@ def mmr_order(
     sentences not yet chosen, where ``S`` holds those already chosen. ``relevance`` is
     rescaled to [0, 1] first so that λ means the same for every scorer; λ = 1 is plain
     relevance order, smaller λ penalises redundancy more. ``similarity`` is a dense or
-    sparse cosine matrix over all sentences.
+    sparse cosine matrix over all sentences, or :class:`CosineRows`.
     """
     if not candidates:
         return []
     rel = relevance[candidates].astype(float)
     span = rel.max() - rel.min()
     rel = (rel - rel.min()) / span if span > 0 else np.ones_like(rel)
-    sim = similarity[candidates][:, candidates]
-    sim = sim.toarray() if sparse.issparse(sim) else np.asarray(sim)
-    remaining = list(range(len(candidates)))
+    chosen = np.zeros(len(candidates), dtype=bool)
     redundancy = np.zeros(len(candidates))
     order: list[int] = []
-    while remaining:
-        gains = [lambda_ * rel[r] - (1 - lambda_) * redundancy[r] for r in remaining]
-        best = remaining[int(np.argmax(gains))]
+    # One similarity row per pick, never the candidates × candidates block, so
+    # memory stays linear in the document's length.
+    for _ in range(len(candidates)):
+        gains = np.where(chosen, -np.inf, lambda_ * rel - (1 - lambda_) * redundancy)
+        best = int(np.argmax(gains))
+        chosen[best] = True
         order.append(candidates[best])
-        remaining.remove(best)
-        redundancy = np.maximum(redundancy, sim[best])
+        row = similarity[candidates[best]]
+        row = row.toarray() if sparse.issparse(row) else np.asarray(row)
+        redundancy = np.maximum(redundancy, row.ravel()[candidates])
     return order
 
 
@@ -183,7 +197,7 @@ class TfidfSummarizer:
         if self.mmr_lambda is None:
             ranked = _ranked(scores, candidates)
         else:
-            ranked = mmr_order(scores, (vectors @ vectors.T).tocsr(), _ranked(scores, candidates), self.mmr_lambda)
+            ranked = mmr_order(scores, CosineRows(vectors), _ranked(scores, candidates), self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
         return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 
@@ -263,7 +277,7 @@ class TextRankSummarizer:
             ranked = _ranked(scores, candidates)
         else:
             vectors = TfidfVectorizer().fit_transform(texts) if texts else sparse.csr_matrix((0, 0))
-            ranked = mmr_order(scores, (vectors @ vectors.T).tocsr(), _ranked(scores, candidates), self.mmr_lambda)
+            ranked = mmr_order(scores, CosineRows(vectors), _ranked(scores, candidates), self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
         return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 

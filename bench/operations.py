@@ -1,0 +1,193 @@
+"""Costs of an overnight run, side by side on this machine, as Markdown tables.
+
+    python -m bench.operations                  # 1k and 10k documents
+    python -m bench.operations --sizes 1000     # quicker
+    python -m bench.operations --sizes 1000,10000,100000
+
+1. The whole extractive run (read, split, store, fit, lead + TF-IDF + TextRank,
+   store) against its floor: reading, sentence splitting and TF-IDF vectorizing the
+   same text, with nothing stored.
+2. Two worker processes against one.
+3. Cost per document at growing archive sizes.
+4. TextRank time and peak memory on documents of 10 to 5,000 sentences.
+
+Archives are generated from the demo archive's sentences (bench.archives). Every
+run starts from an empty store. Wall-clock times; the load average is printed
+because the machine may be shared.
+"""
+
+from __future__ import annotations
+
+import argparse
+import gc
+import io
+import os
+import random
+import resource
+import tempfile
+import time
+import tracemalloc
+from pathlib import Path
+
+from sklearn.feature_extraction.text import TfidfVectorizer
+
+from bench.archives import build_archive, demo_sentences
+from summarize.batch import run_archive
+from summarize.document import Document, Segmentation, Span
+from summarize.extractive import TextRankSummarizer
+from summarize.ingest import iter_archive
+from summarize.progress import Progress
+from summarize.split import split_document
+
+DEMO_ARCHIVE = Path(__file__).resolve().parents[1] / "demo_archive"
+TEXTRANK_SIZES = (10, 100, 1000, 5000)
+
+
+def table(header: list[str], rows: list[list]) -> str:
+    lines = ["| " + " | ".join(header) + " |", "|" + "|".join("---" for _ in header) + "|"]
+    lines += ["| " + " | ".join(str(cell) for cell in row) + " |" for row in rows]
+    return "\n".join(lines)
+
+
+def load() -> str:
+    return "load average %.1f / %.1f / %.1f on %d CPUs" % (*os.getloadavg(), os.cpu_count())
+
+
+def timed_run(archive: Path, db: Path, workers: int = 1) -> tuple[float, int]:
+    """Seconds for a full run into an empty store, and documents summarized."""
+    gc.collect()
+    started = time.perf_counter()
+    report = run_archive([archive], str(db), workers=workers, progress=Progress(stream=io.StringIO()))
+    seconds = time.perf_counter() - started
+    if report.exit_status != 0 or report.documents_remaining:
+        raise RuntimeError(f"benchmark run did not finish cleanly: {report.counts()}")
+    return seconds, report.documents_summarized
+
+
+def floor_seconds(archive: Path) -> tuple[float, dict]:
+    """Reading, splitting and TF-IDF vectorizing every document, nothing stored."""
+    gc.collect()
+    started = time.perf_counter()
+    documents = [item for item in iter_archive([archive]) if isinstance(item, Document)]
+    read = time.perf_counter()
+    segmentations = [split_document(document) for document in documents]
+    split = time.perf_counter()
+    vectorizer = TfidfVectorizer(stop_words="english").fit(document.text for document in documents)
+    for document, segmentation in zip(documents, segmentations):
+        vectorizer.transform(segmentation.sentence_texts(document.text))
+    done = time.perf_counter()
+    return done - started, {"read": read - started, "split": split - read, "tfidf": done - split}
+
+
+def bench_floor(workdir: Path, archive: Path) -> str:
+    floor, parts = floor_seconds(archive)
+    pipeline, documents = timed_run(archive, workdir / "floor.sqlite")
+    rows = [
+        ["floor: read", f"{parts['read']:.2f}", ""],
+        ["floor: split (pySBD)", f"{parts['split']:.2f}", ""],
+        ["floor: TF-IDF fit + vectorize sentences", f"{parts['tfidf']:.2f}", ""],
+        ["**floor total**", f"{floor:.2f}", "1.00"],
+        ["**whole run** (3 methods, stored)", f"{pipeline:.2f}", f"{pipeline / floor:.2f}"],
+    ]
+    return f"### Whole run against its floor ({documents} documents, 1 process)\n\n" + table(
+        ["what", "seconds", "× floor"], rows
+    )
+
+
+def bench_workers(workdir: Path, archive: Path) -> str:
+    one, documents = timed_run(archive, workdir / "workers1.sqlite", workers=1)
+    two, _ = timed_run(archive, workdir / "workers2.sqlite", workers=2)
+    rows = [["1", f"{one:.2f}", f"{documents / one:.1f}", "1.00"],
+            ["2", f"{two:.2f}", f"{documents / two:.1f}", f"{one / two:.2f}"]]
+    return f"### Worker processes ({documents} documents; {load()})\n\n" + table(
+        ["--workers", "seconds", "documents/s", "speed-up"], rows
+    )
+
+
+def bench_scaling(workdir: Path, sentences: list[str], sizes: list[int]) -> str:
+    rows, base = [], None
+    for size in sizes:
+        archive = workdir / f"scale_{size}"
+        build_archive(archive, size, sentences, seed=size)
+        seconds, documents = timed_run(archive, workdir / f"scale_{size}.sqlite")
+        per_document = 1000 * seconds / documents
+        base = base or per_document
+        store_mb = sum(f.stat().st_size for f in workdir.glob(f"scale_{size}.sqlite*")) / 1e6
+        rows.append([f"{size:,}", f"{seconds:.1f}", f"{per_document:.2f}", f"{per_document / base:.2f}", f"{store_mb:.0f}"])
+    return f"### Cost per document by archive size (1 process; {load()})\n\n" + table(
+        ["documents", "seconds", "ms per document", "× smallest", "store MB"], rows
+    )
+
+
+def long_document(sentences: list[str], count: int, seed: int) -> tuple[Document, Segmentation]:
+    """A document of ``count`` demo sentences in paragraphs of five, with exact spans."""
+    rng = random.Random(seed)
+    text, spans, owners, paragraphs = "", [], [], []
+    for index in range(count):
+        if index % 5 == 0:
+            if index:
+                paragraphs.append(Span(paragraphs_start, len(text)))
+                text += "\n\n"
+            paragraphs_start = len(text)
+        elif text:
+            text += " "
+        sentence = rng.choice(sentences)
+        spans.append(Span(len(text), len(text) + len(sentence)))
+        owners.append(len(paragraphs))
+        text += sentence
+    paragraphs.append(Span(paragraphs_start, len(text)))
+    document = Document(record_key=f"long-{count}", path=f"long-{count}.txt", text=text, format="txt",
+                        sha256="0" * 64, size=len(text))
+    return document, Segmentation(paragraphs=tuple(paragraphs), sentences=tuple(spans),
+                                  sentence_paragraph=tuple(owners), sentence_is_heading=(False,) * count)
+
+
+def bench_textrank(sentences: list[str]) -> str:
+    rows, previous = [], None
+    for label, method in (("textrank", TextRankSummarizer()), ("textrank --mmr 0.7", TextRankSummarizer(mmr_lambda=0.7))):
+        for count in TEXTRANK_SIZES:
+            document, segmentation = long_document(sentences, count, seed=count)
+            gc.collect()
+            started = time.perf_counter()
+            method.summarize(document, segmentation)
+            seconds = time.perf_counter() - started
+            tracemalloc.start()
+            method.summarize(document, segmentation)
+            peak = tracemalloc.get_traced_memory()[1] / 1e6
+            tracemalloc.stop()
+            growth = f"{peak / previous[1]:.1f}× for {count // previous[0]}× sentences" if previous else ""
+            previous = (count, peak) if count != TEXTRANK_SIZES[-1] else None
+            rows.append([label, f"{count:,}", f"{seconds * 1000:.0f}", f"{peak:.1f}", f"{1e3 * peak / count:.1f}", growth])
+    return "### TextRank by document length (peak memory by tracemalloc)\n\n" + table(
+        ["method", "sentences", "ms", "peak MB", "KB per sentence", "memory growth"], rows
+    )
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--sizes", default="1000,10000", help="archive sizes for the per-document cost")
+    parser.add_argument("--documents", type=int, default=1000, help="archive size for the floor and workers tables")
+    parser.add_argument("--only", choices=["floor", "workers", "scaling", "textrank"], action="append")
+    args = parser.parse_args()
+    sizes = [int(size) for size in args.sizes.split(",")]
+    only = set(args.only or ["floor", "workers", "scaling", "textrank"])
+    sentences = demo_sentences(DEMO_ARCHIVE)
+    print(f"_{load()}; archives built from {len(sentences)} demo sentences_\n")
+    with tempfile.TemporaryDirectory(prefix="bench-operations-") as folder:
+        workdir = Path(folder)
+        archive = workdir / "archive"
+        if only & {"floor", "workers"}:
+            build_archive(archive, args.documents, sentences, seed=1)
+        if "floor" in only:
+            print(bench_floor(workdir, archive), "\n", flush=True)
+        if "workers" in only:
+            print(bench_workers(workdir, archive), "\n", flush=True)
+        if "scaling" in only:
+            print(bench_scaling(workdir, sentences, sizes), "\n", flush=True)
+        if "textrank" in only:
+            print(bench_textrank(sentences), "\n", flush=True)
+    print(f"_peak RSS of this process {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MB_")
+
+
+if __name__ == "__main__":
+    main()
