@@ -162,18 +162,16 @@ class Store:
                     "last_run": run_id,
                 }
             ).last_pk
-            self.db["document_sentences"].insert_all(
-                {
-                    "document_id": document_id,
-                    "position": position,
-                    "start": span.start,
-                    "end": span.end,
-                    "paragraph": paragraph,
-                    "is_heading": int(heading),
-                }
-                for position, (span, paragraph, heading) in enumerate(
-                    zip(segmentation.sentences, segmentation.sentence_paragraph, segmentation.sentence_is_heading)
-                )
+            # Plain executemany: sqlite-utils' insert_all inspects the schema on every call.
+            self.db.conn.executemany(
+                'insert into document_sentences (document_id, position, start, "end", paragraph, is_heading) '
+                "values (?, ?, ?, ?, ?, ?)",
+                [
+                    (document_id, position, span.start, span.end, paragraph, int(heading))
+                    for position, (span, paragraph, heading) in enumerate(
+                        zip(segmentation.sentences, segmentation.sentence_paragraph, segmentation.sentence_is_heading)
+                    )
+                ],
             )
             if document.reference_summary:
                 self.db["reference_summaries"].insert(
@@ -254,21 +252,18 @@ class Store:
                     "created": now(),
                 }
             ).last_pk
-            self.db["summary_sentences"].insert_all(
-                {"summary_id": summary_id, "position": position, "text": sentence.text, "score": sentence.score}
-                for position, sentence in enumerate(summary.sentences)
+            self.db.conn.executemany(
+                "insert into summary_sentences (summary_id, position, text, score) values (?, ?, ?, ?)",
+                [(summary_id, position, sentence.text, sentence.score) for position, sentence in enumerate(summary.sentences)],
             )
-            self.db["sentence_sources"].insert_all(
-                {
-                    "summary_id": summary_id,
-                    "position": position,
-                    "rank": rank,
-                    "start": link.span.start,
-                    "end": link.span.end,
-                    "similarity": link.similarity,
-                }
-                for position, sentence in enumerate(summary.sentences)
-                for rank, link in enumerate(sentence.sources)
+            self.db.conn.executemany(
+                'insert into sentence_sources (summary_id, position, rank, start, "end", similarity) '
+                "values (?, ?, ?, ?, ?, ?)",
+                [
+                    (summary_id, position, rank, link.span.start, link.span.end, link.similarity)
+                    for position, sentence in enumerate(summary.sentences)
+                    for rank, link in enumerate(sentence.sources)
+                ],
             )
             if summary.flags:
                 self.db["flags"].insert_all(

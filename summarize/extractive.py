@@ -185,8 +185,9 @@ class TfidfSummarizer:
         """Centroid cosine per sentence, and the sentence vectors (rows l2-normalised)."""
         if not hasattr(self, "vectorizer_"):
             raise RuntimeError("TfidfSummarizer.fit must be called (on the archive) before summarize")
-        vectors = self.vectorizer_.transform(segmentation.sentence_texts(document.text))
-        centroid = self.vectorizer_.transform([document.text])
+        # One transform call for the sentences and the document (rows are independent).
+        rows = self.vectorizer_.transform([*segmentation.sentence_texts(document.text), document.text]).tocsr()
+        vectors, centroid = rows[:-1], rows[-1]
         return np.asarray((vectors @ centroid.T).toarray()).ravel(), vectors
 
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:

@@ -18,7 +18,6 @@ from pathlib import Path
 
 import psutil
 import pytest
-import sqlite_utils
 from click.testing import CliRunner
 
 from operations_support import (
@@ -281,15 +280,12 @@ def test_until_means_the_next_such_time_of_day():
         parse_until("6.30pm", now=evening)
 
 
-def _failing_insert_all(table_name):
-    original = sqlite_utils.db.Table.insert_all
-
-    def insert_all(self, records, *args, **kwargs):
-        if self.name == table_name:
-            raise OSError("disk went away")  # stands in for a crash mid-transaction
-        return original(self, records, *args, **kwargs)
-
-    return insert_all
+def _fail_inserts_into(store: Store, table: str) -> None:
+    """Make every insert into ``table`` fail, as a crash between two statements of a
+    transaction would (a temporary trigger: SQLite's RAISE(ABORT))."""
+    store.db.execute(
+        f"create temp trigger fail_{table} before insert on {table} begin select raise(abort, 'disk went away'); end"
+    )
 
 
 def _one_document() -> tuple[Document, Segmentation]:
@@ -300,17 +296,17 @@ def _one_document() -> tuple[Document, Segmentation]:
                                   sentence_paragraph=(0, 0), sentence_is_heading=(False, False))
 
 
-def test_a_document_is_written_whole_or_not_at_all(tmp_path, monkeypatch):
+def test_a_document_is_written_whole_or_not_at_all(tmp_path):
     store = Store(str(tmp_path / "atomic.sqlite"))
     run_id = store.begin_run("run", {})
     document, segmentation = _one_document()
-    monkeypatch.setattr(sqlite_utils.db.Table, "insert_all", _failing_insert_all("document_sentences"))
-    with pytest.raises(OSError):
+    _fail_inserts_into(store, "document_sentences")
+    with pytest.raises(sqlite3.IntegrityError, match="disk went away"):
         store.add_document(document, segmentation, run_id)
     assert store.db.execute("select count(*) from documents").fetchone() == (0,)
 
 
-def test_a_summary_is_written_whole_or_not_at_all(tmp_path, monkeypatch):
+def test_a_summary_is_written_whole_or_not_at_all(tmp_path):
     store = Store(str(tmp_path / "atomic.sqlite"))
     run_id = store.begin_run("run", {})
     document, segmentation = _one_document()
@@ -318,8 +314,8 @@ def test_a_summary_is_written_whole_or_not_at_all(tmp_path, monkeypatch):
     summary = Summary(method="lead", params={}, sentences=[
         SummarySentence(text="The gate was inspected on Monday.", score=1.0, sources=(SourceLink(Span(0, 33), 1.0),))
     ])
-    monkeypatch.setattr(sqlite_utils.db.Table, "insert_all", _failing_insert_all("summary_sentences"))
-    with pytest.raises(OSError):
+    _fail_inserts_into(store, "summary_sentences")
+    with pytest.raises(sqlite3.IntegrityError, match="disk went away"):
         store.add_summary(document_id, run_id, summary)
     assert store.db.execute("select count(*) from summaries").fetchone() == (0,)
 
