@@ -27,8 +27,8 @@ class Fold:
 
 @dataclass
 class CrossValidation:
-    """k-fold cross-validation with documents as the unit (Stone 1974; the usual
-    resampling estimate of out-of-sample error).
+    """k-fold cross-validation with documents as the unit (Stone 1974, cited from
+    memory; the usual resampling estimate of out-of-sample error).
 
     The documents, in the order given, are shuffled with ``seed`` and cut into
     ``folds`` parts of near-equal size (scikit-learn's ``KFold(shuffle=True)``); fold
@@ -96,6 +96,3 @@ class CrossValidation:
                 progress(f"cross-validation: fold {fold.number + 1}/{self.folds} summarised")
         return summaries
 
-
-def is_held_out(params: dict) -> bool:
-    return EVALUATION_KEY in params

@@ -80,6 +80,10 @@ class HouseStyleSummarizer:
     # training -----------------------------------------------------------------------
 
     def fit(self, examples: Iterable[Example], archive_texts: Iterable[str] | None = None) -> HouseStyleSummarizer:
+        examples = list(examples)
+        if any(isinstance(example, str) for example in examples):
+            raise TypeError("HouseStyleSummarizer.fit takes (document, segmentation) pairs with reference summaries, "
+                            "not bare texts; a run uses a stored model through summarize.method_choice")
         examples = [(d, s) for d, s in examples if d.reference_summary]
         if not examples:
             raise ValueError("the house-style method needs documents with reference summaries to train on")

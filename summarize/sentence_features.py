@@ -230,13 +230,12 @@ class SentenceFeatures:
         cue_text = [""] * n
         current, count, opening_paragraph = 0, 0, None
         top_level, latest = "", ""
-        seen_heading = False
         sizes: dict[int, int] = {}
         for i in range(n):
             if headings[i]:
-                if seen_heading or i > 0:
+                # A heading opening the document starts section 0 rather than a new one.
+                if i > 0:
                     current += 1
-                seen_heading = True
                 count, opening_paragraph = 0, None
                 latest = texts[i].lower()
                 if not _SUBSECTION_NUMBER.match(texts[i]):
