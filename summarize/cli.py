@@ -73,7 +73,9 @@ def _load_job_defaults(ctx, _param, value):
 @click.option("--job", type=click.Path(dir_okay=False), callback=_load_job_defaults, is_eager=True, expose_value=False,
               help="TOML job file with the run's settings; flags given here override it.")
 @click.option("--db", "db", type=click.Path(dir_okay=False), help="SQLite store (created if missing).")
-@click.option("--methods", default="lead,tfidf,textrank", show_default=True, help="Comma-separated methods.")
+@click.option("--methods", default="lead,tfidf,textrank", show_default=True,
+              help="Comma-separated methods: lead, tfidf, textrank, seq2seq; house-style (trained on the archive's "
+                   "reference summaries; see `summarize train`); auto (the best of these by held-out ROUGE).")
 @click.option("--budget", default="3", show_default=True, callback=_budget,
               help="Summary length: '3' sentences, '80w' words or '10%' of the document.")
 @click.option("--mmr", type=click.FloatRange(0, 1), default=None,
