@@ -18,7 +18,7 @@ from threadpoolctl import threadpool_limits
 
 from summarize.budget import Budget, count_words
 from summarize.document import Document, Segmentation, Summary
-from summarize.extractive import DEFAULT_BUDGET, _build_summary, _candidates, _ranked, mmr_order
+from summarize.extractive import DEFAULT_BUDGET, CosineRows, _build_summary, _candidates, _ranked, mmr_order
 from summarize.matched import MatchedBudget
 from summarize.oracle import OracleSummarizer
 from summarize.sentence_features import FEATURE_NAMES, SentenceFeatures
@@ -171,6 +171,6 @@ class HouseStyleSummarizer:
         ranked = _ranked(probabilities, candidates)
         if self.mmr_lambda is not None and ranked:
             vectors = self._features().vectorizer_.transform(texts)
-            ranked = mmr_order(probabilities, (vectors @ vectors.T).tocsr(), ranked, self.mmr_lambda)
+            ranked = mmr_order(probabilities, CosineRows(vectors), ranked, self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
         return _build_summary(self.name, self.get_params(), document, segmentation, chosen, probabilities, started)

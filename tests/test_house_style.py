@@ -170,6 +170,25 @@ def test_learns_the_house_style_and_is_deterministic():
         assert all(s.text not in " ".join(BACKGROUND) for s in summary.sentences)
 
 
+def test_mmr_keeps_a_repeated_finding_out_of_the_summary():
+    # MMR (Carbonell & Goldstein 1998): λ = 1 is plain relevance order; a lower λ
+    # trades relevance for novelty, so an exact copy of a chosen sentence drops out.
+    data = examples(25)
+    document, _ = data[24]
+    findings = next(block for block in document.text.split("\n\n") if "showed" in block)
+    finding = findings.split(". ")[0] + "."
+    document.text = document.text.replace(findings, f"{findings}\n\n{finding}", 1)
+    segmentation = split_document(document)
+
+    def picked(mmr_lambda):
+        method = HouseStyleSummarizer(budget=Budget(sentences=3), mmr_lambda=mmr_lambda).fit(data[:24])
+        return [s.text for s in method.summarize(document, segmentation).sentences]
+
+    assert picked(None).count(finding) == 2
+    assert picked(1.0) == picked(None)
+    assert picked(0.5).count(finding) == 1
+
+
 def test_features_have_one_column_per_name():
     data = examples(3)
     features = HouseStyleSummarizer().fit(data).features_.transform(*data[0])
