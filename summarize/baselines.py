@@ -10,7 +10,7 @@ import numpy as np
 
 from summarize.budget import Budget, count_words
 from summarize.document import Document, Segmentation, Summary
-from summarize.extractive import DEFAULT_BUDGET, _build_summary, _candidates
+from summarize.extractive import DEFAULT_BUDGET, build_summary, selectable_sentences
 
 
 @dataclass
@@ -38,7 +38,7 @@ class RandomSummarizer:
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
         words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         text_key = int.from_bytes(hashlib.sha256(document.text.encode("utf-8")).digest()[:8], "big")
         order = np.random.default_rng([self.seed, text_key]).permutation(len(candidates))
         ranked = [candidates[k] for k in order]
@@ -46,4 +46,4 @@ class RandomSummarizer:
         scores = np.zeros(len(words))
         for rank, index in enumerate(ranked):
             scores[index] = 1.0 / (1 + rank)
-        return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
+        return build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)

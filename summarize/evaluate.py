@@ -25,7 +25,9 @@ def _say(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
 
 
-def _score_pending(store: Store, metric: RougeMetric, progress: Callable[[str], None] | None) -> int:
+def score_unscored(store: Store, metric: RougeMetric, progress: Callable[[str], None] | None) -> int:
+    """Score every stored summary that has a reference and no score yet, inside the
+    caller's run (the caller holds the store's writer lock). Returns how many."""
     pending = unscored_summaries(store.db)
     references: dict[int, list[str]] = {}
     for number, item in enumerate(pending, 1):
@@ -50,7 +52,7 @@ def score_store(
     with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
         store = Store(db_path)
         try:
-            return _score_pending(store, metric or RougeMetric(), progress)
+            return score_unscored(store, metric or RougeMetric(), progress)
         finally:
             store.close()
 
@@ -101,7 +103,7 @@ def _score_locked(db_path, budget, methods, metric, progress, started) -> ScoreR
     try:
         report.summaries_added = add_matched_summaries(store, run_id, budget, methods, progress)
         report.oracles_added = add_oracle_at_stored_budgets(store, run_id, progress)
-        report.summaries_scored = _score_pending(store, metric, progress)
+        report.summaries_scored = score_unscored(store, metric, progress)
         status = "completed"
     finally:
         report.seconds = time.perf_counter() - started

@@ -25,7 +25,8 @@ from summarize.graph import pagerank, top_k_symmetric
 DEFAULT_BUDGET = Budget(sentences=3)
 
 
-def _candidates(segmentation: Segmentation, words: list[int], min_words: int) -> list[int]:
+def selectable_sentences(segmentation: Segmentation, words: list[int], min_words: int) -> list[int]:
+    """Indices of sentences a method may pick: not headings, at least ``min_words`` long."""
     chosen = [
         i
         for i, heading in enumerate(segmentation.sentence_is_heading)
@@ -35,11 +36,12 @@ def _candidates(segmentation: Segmentation, words: list[int], min_words: int) ->
     return chosen or [i for i in range(len(words)) if words[i] > 0]
 
 
-def _ranked(scores: np.ndarray, candidates: list[int]) -> list[int]:
+def rank_by_score(scores: np.ndarray, candidates: list[int]) -> list[int]:
+    """Candidates best first; ties go to the earlier sentence."""
     return sorted(candidates, key=lambda i: (-scores[i], i))
 
 
-def _build_summary(
+def build_summary(
     method: str,
     params: dict,
     document: Document,
@@ -48,6 +50,7 @@ def _build_summary(
     scores: np.ndarray,
     started: float,
 ) -> Summary:
+    """A Summary of the ``chosen`` sentences (document order), each with its span and score."""
     sentences = [
         SummarySentence(
             text=segmentation.sentences[i].slice(document.text),
@@ -130,13 +133,13 @@ class LeadSummarizer:
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
         words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         chosen = self.budget.select(candidates, words)
         # Score = 1 / (1 + rank): the position the baseline ranks by.
         scores = np.zeros(len(words))
         for rank, index in enumerate(candidates):
             scores[index] = 1.0 / (1 + rank)
-        return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
+        return build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 
 
 @dataclass
@@ -193,14 +196,14 @@ class TfidfSummarizer:
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
         words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         scores, vectors = self.sentence_scores(document, segmentation)
         if self.mmr_lambda is None:
-            ranked = _ranked(scores, candidates)
+            ranked = rank_by_score(scores, candidates)
         else:
-            ranked = mmr_order(scores, CosineRows(vectors), _ranked(scores, candidates), self.mmr_lambda)
+            ranked = mmr_order(scores, CosineRows(vectors), rank_by_score(scores, candidates), self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
-        return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
+        return build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 
 
 @dataclass
@@ -271,16 +274,16 @@ class TextRankSummarizer:
         started = time.perf_counter()
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(s) for s in texts]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         graph = self.similarity_graph(texts)
         scores = pagerank(graph, self.damping, self.tolerance, self.max_iterations)
         if self.mmr_lambda is None:
-            ranked = _ranked(scores, candidates)
+            ranked = rank_by_score(scores, candidates)
         else:
             vectors = TfidfVectorizer().fit_transform(texts) if texts else sparse.csr_matrix((0, 0))
-            ranked = mmr_order(scores, CosineRows(vectors), _ranked(scores, candidates), self.mmr_lambda)
+            ranked = mmr_order(scores, CosineRows(vectors), rank_by_score(scores, candidates), self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
-        return _build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
+        return build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 
 
 EXTRACTIVE_METHODS = {

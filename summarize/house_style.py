@@ -18,7 +18,7 @@ from threadpoolctl import threadpool_limits
 
 from summarize.budget import Budget, count_words
 from summarize.document import Document, Segmentation, Summary
-from summarize.extractive import DEFAULT_BUDGET, CosineRows, _build_summary, _candidates, _ranked, mmr_order
+from summarize.extractive import DEFAULT_BUDGET, CosineRows, build_summary, selectable_sentences, rank_by_score, mmr_order
 from summarize.matched import MatchedBudget
 from summarize.oracle import OracleSummarizer
 from summarize.sentence_features import FEATURE_NAMES, SentenceFeatures
@@ -101,7 +101,7 @@ class HouseStyleSummarizer:
             raise ValueError(f"{document.record_key}: training needs a reference summary")
         features = self._features().transform(document, segmentation)
         words = [count_words(t) for t in segmentation.sentence_texts(document.text)]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         oracle = OracleSummarizer(
             budget=MatchedBudget().budget_for(document.reference_summary), min_words=self.min_words
         ).summarize(document, segmentation)
@@ -155,7 +155,7 @@ class HouseStyleSummarizer:
             raise RuntimeError("this model was trained on another feature set; train it again")
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         probabilities = np.zeros(len(texts))
         if candidates:
             rows = self._features().transform(document, segmentation)[candidates]
@@ -168,9 +168,9 @@ class HouseStyleSummarizer:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
         probabilities, candidates = self.sentence_probabilities(document, segmentation)
-        ranked = _ranked(probabilities, candidates)
+        ranked = rank_by_score(probabilities, candidates)
         if self.mmr_lambda is not None and ranked:
             vectors = self._features().vectorizer_.transform(texts)
             ranked = mmr_order(probabilities, CosineRows(vectors), ranked, self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
-        return _build_summary(self.name, self.get_params(), document, segmentation, chosen, probabilities, started)
+        return build_summary(self.name, self.get_params(), document, segmentation, chosen, probabilities, started)

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from summarize.budget import Budget, count_words
 from summarize.document import Document, Segmentation, Summary
-from summarize.extractive import DEFAULT_BUDGET, _build_summary, _candidates
+from summarize.extractive import DEFAULT_BUDGET, build_summary, selectable_sentences
 from summarize.rouge import RougeMetric
 
 
@@ -68,7 +68,7 @@ class OracleSummarizer:
         started = time.perf_counter()
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(s) for s in texts]
-        candidates = _candidates(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words)
         metric = RougeMetric(metrics=("rouge1", "rouge2"), stemming=True)
         search = _OverlapSearch([metric.tokens(t) for t in texts], metric.tokens(document.reference_summary))
         limit = word_limit(self.budget, words)
@@ -93,7 +93,7 @@ class OracleSummarizer:
             chosen.append(index)
             used += words[index]
             current = float(values[best])
-        summary = _build_summary(
+        summary = build_summary(
             self.name, self.get_params(), document, segmentation, sorted(chosen), gains, started
         )
         summary.details["objective"] = current

@@ -27,7 +27,7 @@ from store.evaluation import active_texts, referenced_document_ids, stored_docum
 from store.learned_models import latest_learned_model, save_learned_model
 from store.writes import Store
 from summarize.document import param_hash
-from summarize.evaluate import _score_pending
+from summarize.evaluate import score_unscored
 from summarize.held_out import CrossValidation
 from summarize.house_style import HouseStyleSummarizer
 from summarize.matched import SUMMARIZERS, MatchedBudget, add_matched_summaries
@@ -120,7 +120,7 @@ def score_fixed_methods(store: Store, run_id: int, progress: Callable[[str], Non
     """Matched-budget lead, TF-IDF and TextRank summaries of every referenced document,
     scored; returns their held-out means (these methods never see references)."""
     add_matched_summaries(store, run_id, MatchedBudget(), FIXED_METHODS, progress)
-    _score_pending(store, RougeMetric(), progress)
+    score_unscored(store, RougeMetric(), progress)
     expected = {name: (lambda reference, name=name: matched_params(name, reference)) for name in FIXED_METHODS}
     return held_out_means(store, referenced_document_ids(store.db), expected)
 
@@ -174,7 +174,7 @@ def train_in_store(
             store.add_summary(ids[k], run_id, summary)
         report.held_out_added = len(missing)
     report.matched_added = add_matched_summaries(store, run_id, MatchedBudget(), (*FIXED_METHODS, "oracle"), progress)
-    report.scored = _score_pending(store, RougeMetric(), progress)
+    report.scored = score_unscored(store, RougeMetric(), progress)
     expected = {name: (lambda reference, name=name: matched_params(name, reference)) for name in FIXED_METHODS}
     expected[prototype.name] = lambda reference: cv.summary_params(prototype, reference)
     expected["oracle"] = lambda reference: matched_params("oracle", reference)
