@@ -27,9 +27,10 @@ from collections.abc import Iterable, Iterator
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
+from store.documents import stored_document
 from store.writes import Store
 from summarize.budget import Budget
-from summarize.document import Document, Segmentation, Span, param_hash
+from summarize.document import Document, param_hash
 from summarize.executors import check_scheduler, make_executor
 from summarize.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
@@ -122,46 +123,6 @@ def build_methods(
             kwargs["mmr_lambda"] = mmr_lambda
         methods.append(EXTRACTIVE_METHODS[name](**kwargs))
     return methods
-
-
-def load_document(store: Store, document_id: int) -> tuple[Document, Segmentation]:
-    """Rebuild a stored document and its segmentation (no re-reading, no re-splitting)."""
-    row = store.db["documents"].get(document_id)
-    reference = store.db.execute(
-        "select text, source from reference_summaries where document_id = ?", [document_id]
-    ).fetchone()
-    document = Document(
-        record_key=row["record_key"],
-        path=row["path"],
-        text=row["text"],
-        format=row["format"],
-        sha256=row["sha256"],
-        size=row["size"],
-        title=row["title"],
-        date=row["date"],
-        encoding=row["encoding"],
-        reference_summary=reference[0] if reference else None,
-        reference_source=reference[1] if reference else None,
-    )
-    sentences, owners, headings = [], [], []
-    for start, end, paragraph, heading in store.db.execute(
-        "select start, end, paragraph, is_heading from document_sentences where document_id = ? order by position",
-        [document_id],
-    ).fetchall():
-        sentences.append(Span(start, end))
-        owners.append(paragraph)
-        headings.append(bool(heading))
-    paragraphs: dict[int, Span] = {}
-    for span, owner in zip(sentences, owners):
-        known = paragraphs.get(owner)
-        paragraphs[owner] = Span(min(span.start, known.start), max(span.end, known.end)) if known else span
-    document.headings = [s for s, h in zip(sentences, headings) if h]
-    return document, Segmentation(
-        paragraphs=tuple(paragraphs[k] for k in sorted(paragraphs)),
-        sentences=tuple(sentences),
-        sentence_paragraph=tuple(owners),
-        sentence_is_heading=tuple(headings),
-    )
 
 
 def _under(record_key: str, roots: list[str]) -> bool:
@@ -422,7 +383,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             progress.advance()
 
     jobs = (
-        (document_id, load_document(store, document_id), sorted(names & per_document_names))
+        (document_id, stored_document(store.db, document_id), sorted(names & per_document_names))
         for document_id, names in list(todo.items())
         if names & per_document_names
     )
@@ -437,7 +398,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             if stop.reason():
                 break
             chunk = wanted[start : start + size]
-            loaded = [load_document(store, document_id) for document_id in chunk]
+            loaded = [stored_document(store.db, document_id) for document_id in chunk]
             for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
                 _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
                 finished(document_id, {method.name})

@@ -17,7 +17,8 @@ import copy
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
-from store.evaluation import active_texts, referenced_document_ids, stored_document, stored_summary_budgets
+from store.documents import stored_document
+from store.evaluation import active_texts, referenced_document_ids, stored_summary_budgets
 from store.writes import Store
 from summarize.baselines import RandomSummarizer
 from summarize.budget import Budget, count_words

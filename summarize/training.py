@@ -23,7 +23,8 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from store.evaluation import active_texts, referenced_document_ids, stored_document
+from store.documents import stored_document
+from store.evaluation import active_texts, referenced_document_ids
 from store.learned_models import latest_learned_model, save_learned_model
 from store.writes import Store
 from summarize.document import param_hash

@@ -13,7 +13,6 @@ import json
 import random
 
 import numpy as np
-import pytest
 
 from store.learned_models import latest_learned_model, save_learned_model
 from store.writes import Store
