@@ -73,6 +73,14 @@ class Store:
         with self.db.atomic():
             yield
 
+    def _insert_row(self, table: str, row: dict) -> int:
+        """Insert one row of plain values; returns its rowid. (Plain SQL for the rows
+        written per document: sqlite-utils' insert inspects the schema on every call.)"""
+        columns = ", ".join(f'"{column}"' for column in row)
+        marks = ", ".join("?" for _ in row)
+        cursor = self.db.conn.execute(f'insert into "{table}" ({columns}) values ({marks})', list(row.values()))
+        return cursor.lastrowid
+
     # runs -------------------------------------------------------------------------
 
     def begin_run(self, command: str, config: dict) -> int:
@@ -144,7 +152,8 @@ class Store:
             ).fetchone()
             self._retire_versions(document.record_key)
             status = "duplicate" if twin else "active"
-            document_id = self.db["documents"].insert(
+            document_id = self._insert_row(
+                "documents",
                 {
                     "record_key": document.record_key,
                     "path": document.path,
@@ -161,7 +170,7 @@ class Store:
                     "first_run": run_id,
                     "last_run": run_id,
                 }
-            ).last_pk
+            )
             # Plain executemany: sqlite-utils' insert_all inspects the schema on every call.
             self.db.conn.executemany(
                 'insert into document_sentences (document_id, position, start, "end", paragraph, is_heading) '
@@ -239,7 +248,8 @@ class Store:
             ).fetchone()
             if row:
                 return row[0]
-            summary_id = self.db["summaries"].insert(
+            summary_id = self._insert_row(
+                "summaries",
                 {
                     "document_id": document_id,
                     "method": summary.method,
@@ -251,7 +261,7 @@ class Store:
                     "run_id": run_id,
                     "created": now(),
                 }
-            ).last_pk
+            )
             self.db.conn.executemany(
                 "insert into summary_sentences (summary_id, position, text, score) values (?, ?, ?, ?)",
                 [(summary_id, position, sentence.text, sentence.score) for position, sentence in enumerate(summary.sentences)],
