@@ -128,8 +128,10 @@ class Seq2SeqSummarizer:
             if (value := getattr(self, key)) is not None
         }
         settings = {**DEFAULT_SETTINGS, **checkpoint.recommended, **PROFILES[self.profile], **explicit}
-        settings.pop("prefix", None)
-        settings["min_new_tokens"] = min(settings["min_new_tokens"], settings["max_new_tokens"])
+        if "min_new_tokens" not in explicit:
+            # A checkpoint's or profile's minimum yields to a shorter maximum; a
+            # minimum given explicitly is checked instead.
+            settings["min_new_tokens"] = min(settings["min_new_tokens"], settings["max_new_tokens"])
         self.generation_ = GenerationSettings(
             **{key: settings[key] for key in GenerationSettings.__dataclass_fields__}
         )

@@ -217,6 +217,10 @@ def test_profiles_and_explicit_settings(tiny_t5):
         "num_beams", "min_new_tokens", "max_new_tokens", "no_repeat_ngram_size", "length_penalty", "early_stopping"
     }
     assert "path" not in params["model"] and overridden.runtime_settings()["model_path"] == str(tiny_t5.resolve())
+    # A profile's minimum yields to a shorter explicit maximum; an explicit minimum is checked.
+    assert Seq2SeqSummarizer(str(tiny_t5), max_new_tokens=8).load().generation_.min_new_tokens == 8
+    with pytest.raises(ValueError, match="min_new_tokens"):
+        Seq2SeqSummarizer(str(tiny_t5), min_new_tokens=30, max_new_tokens=10).load()
 
 
 def test_t5_gets_its_task_prefix_and_bart_none(tiny_t5, tiny_bart):
