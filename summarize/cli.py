@@ -95,7 +95,7 @@ def _load_job_defaults(ctx, _param, value):
 @click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
 @click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
 @click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
-@click.option("--model", default=None,
+@click.option("--model", default=None, metavar="DIR",
               help="seq2seq: checkpoint directory, or a repository id already in the local Hugging Face cache.")
 @click.option("--allow-pickle-weights", is_flag=True,
               help="seq2seq: accept a checkpoint whose only weights are pickle files (they can run code: trusted sources only).")
