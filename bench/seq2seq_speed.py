@@ -47,6 +47,7 @@ T5_SMALL = dict(
 )
 WINDOW = 512
 BEAMS = 4
+GROUP = 8  # documents per turn; also the batch size of the method's configurations
 
 
 def load_documents(limit: int) -> tuple[list[Document], str]:
@@ -98,12 +99,17 @@ def build_checkpoint(directory: Path, texts: list[str]) -> Path:
     return directory
 
 
-def run_naive(model_dir: Path, documents: list[Document], new_tokens: int) -> tuple[float, list[int]]:
-    """One document at a time, as a first script would do it."""
+def load_plain(model_dir: Path):
+    """The model and tokenizer as a first script would load them."""
     from transformers import AutoModelForSeq2SeqLM, AutoTokenizer
 
     tokenizer = AutoTokenizer.from_pretrained(model_dir, local_files_only=True)
     model = AutoModelForSeq2SeqLM.from_pretrained(model_dir, local_files_only=True)
+    return model, tokenizer
+
+
+def run_naive(model, tokenizer, documents: list[Document], new_tokens: int) -> tuple[float, list[int]]:
+    """One document at a time, as a first script would do it."""
     lengths = []
     started = time.perf_counter()
     for document in documents:
@@ -175,23 +181,29 @@ def main(argv: list[str] | None = None) -> None:
     with tempfile.TemporaryDirectory() as folder:
         model_dir = build_checkpoint(Path(folder), [d.text for d in documents])
         beam = tool(model_dir, documents, args.new_tokens, args.threads, num_beams=BEAMS, quantize=False,
-                    batch_size=8, no_repeat_ngram_size=3, length_penalty=1.0, early_stopping=True)
+                    batch_size=GROUP, no_repeat_ngram_size=3, length_penalty=1.0, early_stopping=True)
         greedy = tool(model_dir, documents, args.new_tokens, args.threads, num_beams=1, quantize=False,
-                      batch_size=8, no_repeat_ngram_size=3)
+                      batch_size=GROUP, no_repeat_ngram_size=3)
         fast = tool(model_dir, documents, args.new_tokens, args.threads, profile="fast", no_repeat_ngram_size=3)
-        seconds: dict[str, list[float]] = {"naive": [], "tool": [], "greedy": [], "fast": []}
-        for _ in range(args.rounds):
-            elapsed, naive_lengths = run_naive(model_dir, documents, args.new_tokens)
-            seconds["naive"].append(elapsed)
-            for name, summarizer in (("tool", beam), ("greedy", greedy), ("fast", fast)):
-                elapsed, results = run_tool(summarizer, items)
-                seconds[name].append(elapsed)
-                if name == "greedy":
-                    greedy_results = results
-                elif name == "fast":
-                    fast_results = results
-                else:
-                    tool_results = results
+        plain = load_plain(model_dir)
+        configurations = (("tool", beam), ("greedy", greedy), ("fast", fast))
+        # Configurations take turns on each group of documents, so a change in the
+        # machine's load during the run falls on all of them alike.
+        groups = [list(range(k, min(k + GROUP, len(items)))) for k in range(0, len(items), GROUP)]
+        seconds = {name: [0.0] * args.rounds for name in ("naive", "tool", "greedy", "fast")}
+        outputs: dict[str, list] = {name: [None] * len(items) for name, _ in configurations}
+        naive_lengths = []
+        for round_ in range(args.rounds):
+            for group in groups:
+                elapsed, lengths = run_naive(*plain, [documents[i] for i in group], args.new_tokens)
+                seconds["naive"][round_] += elapsed
+                naive_lengths.extend(lengths)
+                for name, summarizer in configurations:
+                    elapsed, results = run_tool(summarizer, [items[i] for i in group])
+                    seconds[name][round_] += elapsed
+                    for i, result in zip(group, results):
+                        outputs[name][i] = result
+        tool_results, greedy_results, fast_results = outputs["tool"], outputs["greedy"], outputs["fast"]
         agreement, identical, first_difference = token_agreement(
             greedy.checkpoint_.tokenizer, greedy_results, fast_results
         )
