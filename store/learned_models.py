@@ -41,7 +41,7 @@ def save_learned_model(
     metrics: dict,
 ) -> int:
     """Store a fitted method; returns the new row's id."""
-    with db.conn:
+    with db.atomic():
         return db["learned_models"].insert(
             {
                 "name": method.name,

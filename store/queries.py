@@ -4,6 +4,7 @@ rows that exports are made of."""
 from __future__ import annotations
 
 import json
+import os
 
 import sqlite_utils
 
@@ -63,10 +64,11 @@ def resolve_document(db: sqlite_utils.Database, reference: str) -> dict:
         row = db.execute("select id from documents where id = ?", [int(reference)]).fetchone()
         if row:
             return db["documents"].get(row[0])
+    absolute = os.path.abspath(reference)
     row = db.execute(
-        "select id from documents where record_key = ? or path = ? "
+        "select id from documents where record_key in (?, ?) or path in (?, ?) "
         "order by status = 'replaced', id desc limit 1",
-        [reference, reference],
+        [reference, absolute, reference, absolute],
     ).fetchone()
     if not row:
         raise DocumentNotFound(f"no document {reference!r} in the store (give an id, record key or path)")

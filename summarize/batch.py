@@ -220,7 +220,7 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     if not walked_everything:
         report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
         return document_ids
-    roots = [str(p) for p in paths]
+    roots = [os.path.abspath(p) for p in paths]
     for document_id, record_key in store.db.execute(
         "select id, record_key from documents where status = 'active'"
     ).fetchall():

@@ -9,7 +9,7 @@ Conventions:
 
 * Folders are walked depth first, entries sorted by name; names starting with
   '.' are skipped while walking (a hidden path given explicitly is read).
-* ``record_key`` is the path as given or walked; a JSON/JSONL record adds
+* ``record_key`` is the absolute path (made absolute, links not resolved); a JSON/JSONL record adds
   '#<id>' (its id field) or '#<N>' (its position: element N of a .json list,
   line N of a .jsonl file, both from 1).
 * Reference summaries are taken, in order of precedence, from a sidecar file
@@ -28,6 +28,7 @@ Conventions:
 from __future__ import annotations
 
 import hashlib
+import os
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -116,7 +117,9 @@ def iter_archive(
     deterministic order. Summary sidecars next to a document are not yielded."""
     seen: set[Path] = set()
     for given in paths:
-        path = Path(given)
+        # Absolute keys, so that `archive/` one night and `/srv/archive` the next name
+        # the same records (links are not resolved: the path the operator uses counts).
+        path = Path(os.path.abspath(given))
         if not path.exists():
             yield IngestProblem(str(path), "no such file or directory", "error")
             continue

@@ -567,3 +567,13 @@ def test_read_file_names_unsupported_types_and_folders(tmp_path):
 
 def test_supported_suffixes_cover_every_format():
     assert {".txt", ".md", ".rst", ".html", ".htm", ".pdf", ".docx", ".eml", ".json", ".jsonl"} <= ingest.SUPPORTED_SUFFIXES
+
+
+def test_record_keys_do_not_depend_on_how_the_path_is_typed(tmp_path, monkeypatch):
+    folder = tmp_path / "archive"
+    folder.mkdir()
+    (folder / "note.txt").write_text("The north gate was repaired on 2 May. It now closes fully.\n", encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    relative = [item.record_key for item in iter_archive(["archive"])]
+    absolute = [item.record_key for item in iter_archive([str(folder)])]
+    assert relative == absolute == [str(folder / "note.txt")]

@@ -1,0 +1,19 @@
+"""Run every benchmark in turn (slow: tens of minutes on two cores) and print its tables.
+
+Each one also runs alone: ``python -m bench.operations``, ``bench.seq2seq_speed``,
+``bench.aclsum_eval``, ``bench.learned_aclsum``.
+"""
+
+import importlib
+import sys
+
+BENCHMARKS = ("operations", "seq2seq_speed", "aclsum_eval", "learned_aclsum")
+
+for name in BENCHMARKS:
+    print(f"\n## bench.{name}\n", flush=True)
+    module = importlib.import_module(f"bench.{name}")
+    if name == "operations":
+        module.main()
+    else:
+        module.main([])
+    sys.stdout.flush()
