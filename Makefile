@@ -22,7 +22,7 @@ demo: install
 	rm -f $(DEMO_DB) $(DEMO_DB)-wal $(DEMO_DB)-shm
 	-$(BIN)/summarize run demo_archive --db $(DEMO_DB)
 	$(BIN)/summarize score --db $(DEMO_DB)
-	$(BIN)/summarize compare --db $(DEMO_DB)
+	$(BIN)/summarize compare --db $(DEMO_DB) --budget reference
 	mkdir -p $(DEMO_OUT)
 	$(BIN)/summarize export --db $(DEMO_DB) --format html --out $(DEMO_OUT)/summaries.html
 	$(BIN)/summarize export --db $(DEMO_DB) --format csv --out $(DEMO_OUT)/summaries.csv
