@@ -84,7 +84,8 @@ def build_checkpoint(directory: Path, texts: list[str]) -> Path:
     tokenizer = Tokenizer(models.BPE(unk_token="<unk>"))
     tokenizer.pre_tokenizer = pre_tokenizers.Metaspace()
     tokenizer.decoder = decoders.Metaspace()
-    tokenizer.train_from_iterator(texts, trainers.BpeTrainer(vocab_size=T5_SMALL["vocab_size"], special_tokens=special))
+    trainer = trainers.BpeTrainer(vocab_size=T5_SMALL["vocab_size"], special_tokens=special, show_progress=False)
+    tokenizer.train_from_iterator(texts, trainer)
     tokenizer.post_processor = processors.TemplateProcessing(single="$A </s>", special_tokens=[("</s>", 1)])
     wrapped = PreTrainedTokenizerFast(
         tokenizer_object=tokenizer, pad_token="<pad>", eos_token="</s>", unk_token="<unk>", model_max_length=WINDOW

@@ -44,7 +44,9 @@ def train_tokenizer(vocab_size: int = 400, with_bos: bool = False, extra_text: l
     tokenizer.pre_tokenizer = pre_tokenizers.Metaspace()
     tokenizer.decoder = decoders.Metaspace()
     alphabet = list("abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ0123456789.,:;%-'()£$/")
-    trainer = trainers.BpeTrainer(vocab_size=vocab_size, special_tokens=SPECIAL_TOKENS, initial_alphabet=alphabet)
+    trainer = trainers.BpeTrainer(
+        vocab_size=vocab_size, special_tokens=SPECIAL_TOKENS, initial_alphabet=alphabet, show_progress=False
+    )
     tokenizer.train_from_iterator(REPORT_TEXT + (extra_text or []), trainer)
     if with_bos:
         template = processors.TemplateProcessing(
