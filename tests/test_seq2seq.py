@@ -24,6 +24,7 @@ from tiny_checkpoints import (
     COLOUR_CODES,
     REPORT_TEXT,
     build_bart,
+    build_pegasus,
     build_t5,
     build_trained_t5,
     colour_report,
@@ -41,6 +42,11 @@ def tiny_t5(tmp_path_factory):
 @pytest.fixture(scope="session")
 def tiny_bart(tmp_path_factory):
     return build_bart(tmp_path_factory.getbasetemp() / "tiny-bart")
+
+
+@pytest.fixture(scope="session")
+def tiny_pegasus(tmp_path_factory):
+    return build_pegasus(tmp_path_factory.getbasetemp() / "tiny-pegasus")
 
 
 @pytest.fixture(scope="session")
@@ -72,7 +78,7 @@ def _fitted(model_dir, items, **settings) -> Seq2SeqSummarizer:
 # Batching -------------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("builder", ["tiny_t5", "tiny_bart"])
+@pytest.mark.parametrize("builder", ["tiny_t5", "tiny_bart", "tiny_pegasus"])
 def test_batched_greedy_output_equals_one_at_a_time(builder, request):
     checkpoint = load_checkpoint(request.getfixturevalue(builder))
     torch.set_num_threads(1)
@@ -92,11 +98,12 @@ def test_batched_greedy_output_equals_one_at_a_time(builder, request):
         assert generated.input_tokens == encoded["input_ids"].shape[1]
 
 
-def test_beam_search_keeps_transformers_results(tiny_t5):
-    """Skipping the cross-attention reorder must not change beam search output."""
-    checkpoint = load_checkpoint(tiny_t5)
+@pytest.mark.parametrize("builder", ["tiny_t5", "tiny_bart", "tiny_pegasus"])
+def test_beam_search_keeps_transformers_results(builder, request):
+    """Sharing encoder work among beams must not change beam search output."""
+    checkpoint = load_checkpoint(request.getfixturevalue(builder))
     torch.set_num_threads(1)
-    texts = ["summarize: " + " ".join(REPORT_TEXT[n : n + 2 + n % 3]) for n in range(4)]
+    texts = [" ".join(REPORT_TEXT[n].split()[: 4 + 3 * n]) for n in range(4)]  # lengths differ, all fit 64 positions
     settings = GenerationSettings(
         num_beams=3, min_new_tokens=4, max_new_tokens=9, no_repeat_ngram_size=0, length_penalty=1.0, early_stopping=True
     )

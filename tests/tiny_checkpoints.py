@@ -138,6 +138,35 @@ def build_bart(directory: Path, model_max_length: int = 64, seed: int = 11) -> P
     return directory
 
 
+def build_pegasus(directory: Path, model_max_length: int = 64, seed: int = 5) -> Path:
+    """A tiny PEGASUS (1+1 layers, d_model 32, 64 sinusoidal positions)."""
+    import torch
+    from transformers import PegasusConfig, PegasusForConditionalGeneration
+
+    if _complete(directory, "config.json", "model.safetensors", "tokenizer.json"):
+        return directory
+    tokenizer = train_tokenizer()
+    torch.manual_seed(seed)
+    config = PegasusConfig(
+        vocab_size=tokenizer.get_vocab_size(),
+        d_model=32,
+        encoder_layers=1,
+        decoder_layers=1,
+        encoder_attention_heads=4,
+        decoder_attention_heads=4,
+        encoder_ffn_dim=64,
+        decoder_ffn_dim=64,
+        max_position_embeddings=64,
+        pad_token_id=PAD,
+        eos_token_id=EOS,
+        decoder_start_token_id=PAD,
+        forced_eos_token_id=EOS,
+    )
+    PegasusForConditionalGeneration(config).save_pretrained(directory, safe_serialization=True)
+    save_tokenizer(tokenizer, directory, model_max_length)
+    return directory
+
+
 def build_gpt2(directory: Path) -> Path:
     """A tiny GPT-2: a decoder-only model, which the seq2seq method must refuse."""
     import torch
