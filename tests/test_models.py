@@ -13,17 +13,7 @@ import torch
 from summarize.document import param_hash
 from summarize.fetch import CheckpointFetchError, fetch_checkpoint
 from summarize.models import ModelLoadError, input_window, load_checkpoint, recommended_settings
-from tiny_checkpoints import build_bart, build_gpt2, build_t5
-
-
-@pytest.fixture(scope="session")
-def tiny_t5(tmp_path_factory):
-    return build_t5(tmp_path_factory.getbasetemp() / "tiny-t5")
-
-
-@pytest.fixture(scope="session")
-def tiny_bart(tmp_path_factory):
-    return build_bart(tmp_path_factory.getbasetemp() / "tiny-bart")
+from tiny_checkpoints import build_gpt2
 
 
 @pytest.fixture

@@ -23,36 +23,11 @@ from summarize.windowing import TokenCounter
 from tiny_checkpoints import (
     COLOUR_CODES,
     REPORT_TEXT,
-    build_bart,
-    build_pegasus,
-    build_t5,
-    build_trained_t5,
     colour_report,
     colour_summary,
 )
 
 GREEDY = dict(num_beams=1, min_new_tokens=6, max_new_tokens=12, threads=1)
-
-
-@pytest.fixture(scope="session")
-def tiny_t5(tmp_path_factory):
-    return build_t5(tmp_path_factory.getbasetemp() / "tiny-t5")
-
-
-@pytest.fixture(scope="session")
-def tiny_bart(tmp_path_factory):
-    return build_bart(tmp_path_factory.getbasetemp() / "tiny-bart")
-
-
-@pytest.fixture(scope="session")
-def tiny_pegasus(tmp_path_factory):
-    return build_pegasus(tmp_path_factory.getbasetemp() / "tiny-pegasus")
-
-
-@pytest.fixture(scope="session")
-def trained_t5(tmp_path_factory):
-    torch.set_num_threads(1)
-    return build_trained_t5(tmp_path_factory.getbasetemp() / "trained-t5")
 
 
 def _document(key: str, text: str) -> Document:

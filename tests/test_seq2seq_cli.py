@@ -10,15 +10,12 @@ import pytest
 from click.testing import CliRunner
 
 from summarize.cli import main
-from tiny_checkpoints import build_gpt2, build_trained_t5, colour_report
+from tiny_checkpoints import build_gpt2, colour_report
 
 
 @pytest.fixture(scope="session")
-def trained_t5(tmp_path_factory):
-    import torch
-
-    torch.set_num_threads(1)
-    return build_trained_t5(tmp_path_factory.getbasetemp() / "trained-t5")[0]
+def trained_model_dir(trained_t5):
+    return trained_t5[0]
 
 
 @pytest.fixture
@@ -62,12 +59,12 @@ def test_seq2seq_without_a_model_is_a_usage_error(archive, tmp_path):
     assert result.exit_code == 2 and "--model" in result.stderr
 
 
-def test_run_with_seq2seq_options(archive, trained_t5, tmp_path):
+def test_run_with_seq2seq_options(archive, trained_model_dir, tmp_path):
     db = tmp_path / "store.sqlite"
     result = CliRunner().invoke(
         main,
         [
-            "run", str(archive), "--db", str(db), "--methods", "lead,seq2seq", "--model", str(trained_t5),
+            "run", str(archive), "--db", str(db), "--methods", "lead,seq2seq", "--model", str(trained_model_dir),
             "--seq2seq-profile", "fast", "--no-quantize", "--threads", "1", "--batch-size", "2",
             "--max-input-tokens", "48", "--long-mode", "chunks", "--quiet", "--json",
         ],
@@ -80,7 +77,7 @@ def test_run_with_seq2seq_options(archive, trained_t5, tmp_path):
     params = config["methods"]["seq2seq"]
     assert params["profile"] == "fast" and params["quantize"] is None and params["generation"]["num_beams"] == 1
     assert params["input_window"] == 48 and params["long_mode"] == "chunks"
-    assert config["runtime"]["seq2seq"] == {"model_path": str(trained_t5.resolve()), "batch_size": 2, "threads": 1}
+    assert config["runtime"]["seq2seq"] == {"model_path": str(trained_model_dir.resolve()), "batch_size": 2, "threads": 1}
     # The fast profile's minimum length makes the model write on past what it learned;
     # the learned codes, absent from the reports, are flagged in any case.
     assert {("unsupported-number", "41"), ("unsupported-number", "17")} <= flags
