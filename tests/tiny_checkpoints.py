@@ -107,6 +107,19 @@ def build_t5(directory: Path, model_max_length: int = 64, seed: int = 7) -> Path
     return directory
 
 
+# BART and PEGASUS share one layout: 1+1 layers, d_model 32, 64 positions.
+_TINY_BART_LIKE = dict(
+    d_model=32,
+    encoder_layers=1,
+    decoder_layers=1,
+    encoder_attention_heads=4,
+    decoder_attention_heads=4,
+    encoder_ffn_dim=64,
+    decoder_ffn_dim=64,
+    max_position_embeddings=64,
+)
+
+
 def build_bart(directory: Path, model_max_length: int = 64, seed: int = 11) -> Path:
     """A tiny BART (1+1 layers, d_model 32, 64 positions) with a BPE tokenizer."""
     import torch
@@ -118,14 +131,7 @@ def build_bart(directory: Path, model_max_length: int = 64, seed: int = 11) -> P
     torch.manual_seed(seed)
     config = BartConfig(
         vocab_size=tokenizer.get_vocab_size(),
-        d_model=32,
-        encoder_layers=1,
-        decoder_layers=1,
-        encoder_attention_heads=4,
-        decoder_attention_heads=4,
-        encoder_ffn_dim=64,
-        decoder_ffn_dim=64,
-        max_position_embeddings=64,
+        **_TINY_BART_LIKE,
         pad_token_id=PAD,
         eos_token_id=EOS,
         bos_token_id=BOS,
@@ -149,14 +155,7 @@ def build_pegasus(directory: Path, model_max_length: int = 64, seed: int = 5) ->
     torch.manual_seed(seed)
     config = PegasusConfig(
         vocab_size=tokenizer.get_vocab_size(),
-        d_model=32,
-        encoder_layers=1,
-        decoder_layers=1,
-        encoder_attention_heads=4,
-        decoder_attention_heads=4,
-        encoder_ffn_dim=64,
-        decoder_ffn_dim=64,
-        max_position_embeddings=64,
+        **_TINY_BART_LIKE,
         pad_token_id=PAD,
         eos_token_id=EOS,
         decoder_start_token_id=PAD,
