@@ -18,6 +18,9 @@ import pysbd
 from summarize.document import Document, Segmentation, Span
 
 _BLANK_LINE = re.compile(r"\n[ \t]*\n")
+# "Date of incident: Friday 17 January 2025": a labelled field line of a report's
+# header block, which stands alone like a list item.
+_FIELD_LINE = re.compile(r"^\s*[A-Z][\w/&()' -]{0,40}:\s+\S")
 _LIST_ITEM = re.compile(r"^\s*(?:[-*•–]\s+|\(?\d{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
 _NUMBERED_HEADING = re.compile(r"^\s*(?:\d{1,2}(?:\.\d{1,2})*\.?|[A-Z]\.|[IVX]{1,4}\.)\s+\S")
 _MAX_HEADING_WORDS = 12
@@ -63,11 +66,21 @@ def _units(text: str, start: int, end: int) -> list[tuple[Span, bool]]:
         if not line.strip():
             continue
         # "2. Scope" is a numbered heading; "2. Replace the seals on pump 4 before May" an item.
-        is_item = bool(_LIST_ITEM.match(line)) and (
-            not _NUMBERED_HEADING.match(line) or len(line.split()) > _MAX_NUMBERED_HEADING_WORDS
+        is_item = bool(_FIELD_LINE.match(line)) or (
+            bool(_LIST_ITEM.match(line))
+            and (not _NUMBERED_HEADING.match(line) or len(line.split()) > _MAX_NUMBERED_HEADING_WORDS)
+        )
+        # A first line without terminal punctuation, followed by field lines, is a title.
+        title_over_fields = (
+            index == 0
+            and len(lines) > 1
+            and bool(_FIELD_LINE.match(lines[1]))
+            and _looks_like_heading(line, standalone=True)
         )
         standalone_heading = not is_item and len(lines) == 1 and _looks_like_heading(line, standalone=True)
-        is_heading_line = not is_item and len(lines) > 1 and index == 0 and _looks_like_heading(line, standalone=False)
+        is_heading_line = not is_item and len(lines) > 1 and index == 0 and (
+            title_over_fields or _looks_like_heading(line, standalone=False)
+        )
         if standalone_heading or is_item or is_heading_line:
             if prose_start is not None:
                 units.append((Span(prose_start, prose_end), False))

@@ -161,3 +161,21 @@ def test_paragraph_spans_cover_blocks():
     text = "First block line one.\nLine two.\n\n\nSecond block."
     segmentation = split_document(_doc(text))
     assert [p.slice(text) for p in segmentation.paragraphs] == ["First block line one.\nLine two.", "Second block."]
+
+
+def test_report_header_fields_stand_alone_and_their_title_is_a_heading():
+    text = (
+        "Dewirement on the viaduct, Line 1\n"
+        "Date of incident: Friday 17 January 2025\n"
+        "Reported by: Duty Controller\n"
+        "The overhead wire parted at span 14. Service stopped for two hours."
+    )
+    segmentation = split_document(_doc(text))
+    assert segmentation.sentence_texts(text) == [
+        "Dewirement on the viaduct, Line 1",
+        "Date of incident: Friday 17 January 2025",
+        "Reported by: Duty Controller",
+        "The overhead wire parted at span 14.",
+        "Service stopped for two hours.",
+    ]
+    assert segmentation.sentence_is_heading == (True, False, False, False, False)
