@@ -6,7 +6,7 @@ BIN := $(VENV)/bin
 DEMO_DB ?= demo.sqlite
 DEMO_OUT ?= demo_export
 
-.PHONY: demo test install bench clean
+.PHONY: demo test check lint install bench clean
 
 $(BIN)/summarize: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -29,7 +29,11 @@ demo: install
 	$(BIN)/summarize report --db $(DEMO_DB) --out $(DEMO_OUT)/report.html
 	@echo "store: $(DEMO_DB)   exports: $(DEMO_OUT)/summaries.html, $(DEMO_OUT)/summaries.csv   report: $(DEMO_OUT)/report.html"
 
-test: install
+lint: install
+	$(BIN)/ruff check .
+	$(BIN)/lint-imports
+
+test: lint
 	$(BIN)/python -m pytest -q
 
 bench: install

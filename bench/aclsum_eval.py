@@ -19,10 +19,10 @@ import time
 from pathlib import Path
 
 from store.writes import Store
-from summarize.compare import BudgetGroup, Comparison, compare
-from summarize.datasets import load_aclsum
-from summarize.evaluate import score
-from summarize.split import split_document
+from summarize.evaluation.compare import BudgetGroup, Comparison, compare
+from summarize.evaluation.scoring import score
+from summarize.reading.datasets import load_aclsum
+from summarize.reading.split import split_document
 
 METHODS = ("lead", "tfidf", "textrank", "random", "oracle")
 TABLE_METRICS = (("rouge1", "ROUGE-1 F1"), ("rouge2", "ROUGE-2 F1"), ("rougeL", "ROUGE-L F1"))

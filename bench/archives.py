@@ -14,8 +14,8 @@ from __future__ import annotations
 import random
 from pathlib import Path
 
-from summarize.ingest import iter_archive
-from summarize.split import split_document
+from summarize.reading.ingest import iter_archive
+from summarize.reading.split import split_document
 
 FILES_PER_FOLDER = 1000
 MIN_WORDS = 6

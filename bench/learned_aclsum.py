@@ -22,12 +22,13 @@ import time
 from pathlib import Path
 
 from store.writes import Store
-from summarize.bootstrap import PercentileBootstrap
-from summarize.compare import compare
-from summarize.datasets import load_aclsum
-from summarize.house_style import MODELS, HouseStyleSummarizer
-from summarize.split import split_document
-from summarize.training import FIXED_METHODS, train_in_store
+from summarize.evaluation.bootstrap import PercentileBootstrap
+from summarize.evaluation.compare import compare
+from summarize.methods.learned.house_style import MODELS, HouseStyleSummarizer
+from summarize.methods.learned.training import FIXED_METHODS, train_in_store
+from summarize.output.caution import CAUTION
+from summarize.reading.datasets import load_aclsum
+from summarize.reading.split import split_document
 
 ROWS = ("lead", "tfidf", "textrank", "house-style", "oracle")
 TABLE_METRICS = (("rouge1", "ROUGE-1 F1"), ("rouge2", "ROUGE-2 F1"), ("rougeL", "ROUGE-L F1"))
@@ -90,7 +91,7 @@ def run(db_path: str, folds: int, model: str, resamples: int, seed: int) -> str:
     table = markdown_tables(systems, report.folds, resamples, seed)
     timings["compare"] = time.perf_counter() - started
     stages = "; ".join(f"{stage}: {seconds:.0f} s" for stage, seconds in timings.items())
-    return f"{table}\n\nTimes: {stages}.\n\n{comparison.caution}\n"
+    return f"{table}\n\nTimes: {stages}.\n\n{CAUTION}\n"
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -32,12 +32,12 @@ from pathlib import Path
 from sklearn.feature_extraction.text import TfidfVectorizer
 
 from bench.archives import build_archive, demo_sentences
-from summarize.batch import run_archive
-from summarize.document import Document, Segmentation, Span
-from summarize.extractive import TextRankSummarizer
-from summarize.ingest import iter_archive
-from summarize.progress import Progress
-from summarize.split import split_document
+from store.records import Document, Segmentation, Span
+from summarize.methods.extractive import TextRankSummarizer
+from summarize.reading.ingest import iter_archive
+from summarize.reading.split import split_document
+from summarize.runs.progress import Progress
+from summarize.runs.runner import run_archive
 
 DEMO_ARCHIVE = Path(__file__).resolve().parents[1] / "demo_archive"
 TEXTRANK_SIZES = (10, 100, 1000, 5000)
@@ -53,7 +53,8 @@ def table(header: list[str], rows: list[list]) -> str:
 
 
 def load() -> str:
-    return "load average %.1f / %.1f / %.1f on %d CPUs" % (*os.getloadavg(), os.cpu_count())
+    one, five, fifteen = os.getloadavg()
+    return f"load average {one:.1f} / {five:.1f} / {fifteen:.1f} on {os.cpu_count()} CPUs"
 
 
 def timed_run(archive: Path, db: Path, workers: int = 1, tries: int = 1) -> tuple[float, int]:
@@ -156,6 +157,7 @@ def long_document(sentences: list[str], count: int, seed: int) -> tuple[Document
     """A document of ``count`` demo sentences in paragraphs of five, with exact spans."""
     rng = random.Random(seed)
     text, spans, owners, paragraphs = "", [], [], []
+    paragraphs_start = 0
     for index in range(count):
         if index % 5 == 0:
             if index:

@@ -38,9 +38,9 @@ from pathlib import Path
 
 import torch
 
-from summarize.abstractive import Seq2SeqSummarizer
-from summarize.document import Document
-from summarize.split import split_document
+from store.records import Document
+from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
+from summarize.reading.split import split_document
 
 DEMO_ARCHIVE = Path(__file__).resolve().parent.parent / "demo_archive"
 T5_SMALL = dict(
@@ -53,7 +53,7 @@ GROUP = 8  # documents per turn; also the batch size of the method's configurati
 
 def load_documents(limit: int) -> tuple[list[Document], str]:
     """The demo archive's .md and .txt reports (identical texts once), else ACLSum."""
-    from summarize.ingest import IngestProblem, RecordFields, iter_archive
+    from summarize.reading.ingest import IngestProblem, RecordFields, iter_archive
 
     documents, texts = [], set()
     if DEMO_ARCHIVE.is_dir():
@@ -69,7 +69,7 @@ def load_documents(limit: int) -> tuple[list[Document], str]:
             documents.append(item)
     if documents:
         return documents[:limit], "demo archive (.md, .txt)"
-    from summarize.datasets import load_aclsum
+    from summarize.reading.datasets import load_aclsum
 
     return load_aclsum("test", limit=limit), "ACLSum test papers"
 

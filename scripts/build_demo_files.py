@@ -127,7 +127,7 @@ def parse_blocks(body: str) -> list[tuple[str, object]]:
 
 def fixed_datetime(meta: dict) -> _dt.datetime:
     d = _dt.date.fromisoformat(meta["date"])
-    return _dt.datetime(d.year, d.month, d.day, 9, 0, 0, tzinfo=_dt.timezone.utc)
+    return _dt.datetime(d.year, d.month, d.day, 9, 0, 0, tzinfo=_dt.UTC)
 
 
 # --------------------------------------------------------------------------
@@ -348,7 +348,7 @@ def _scanned_pdf(out: Path) -> Path:
     buf.seek(0)
 
     pdf = FPDF(format="A4")
-    pdf.set_creation_date(_dt.datetime(2025, 3, 14, 9, 0, 0, tzinfo=_dt.timezone.utc))
+    pdf.set_creation_date(_dt.datetime(2025, 3, 14, 9, 0, 0, tzinfo=_dt.UTC))
     pdf.set_producer("demo archive builder")
     pdf.add_page()
     pdf.image(buf, x=10, y=10, w=190)

@@ -6,7 +6,7 @@ import json
 
 import sqlite_utils
 
-from summarize.document import Document, Segmentation, Span
+from store.records import Document, Segmentation, Span
 
 
 def stored_segmentation(db: sqlite_utils.Database, document_id: int) -> Segmentation:

@@ -8,12 +8,6 @@ import os
 
 import sqlite_utils
 
-CAUTION = (
-    "Summaries are finding aids: check the source document before acting on safety, "
-    "legal or personnel matters. The store holds full document text and falls under "
-    "the archive's access and retention rules."
-)
-
 
 class DocumentNotFound(LookupError):
     pass
@@ -48,7 +42,7 @@ def find(db: sqlite_utils.Database, query: str, limit: int = 20, method: str | N
     rows = list(db.execute(summary_sql, params).fetchall())
     if not method:
         rows += list(db.execute(title_sql, [quoted]).fetchall())
-    for doc_id, record_key, title, date, hit_method, snippet, rank in sorted(rows, key=lambda r: r[6]):
+    for doc_id, record_key, title, date, hit_method, snippet, _rank in sorted(rows, key=lambda r: r[6]):
         hit = hits.setdefault(
             doc_id,
             {"document_id": doc_id, "record_key": record_key, "title": title, "date": date, "matches": []},

@@ -18,13 +18,13 @@ import os
 import platform
 import socket
 from contextlib import contextmanager
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import metadata
 
 import sqlite_utils
 
+from store.records import Document, Segmentation, Summary
 from store.schema import open_database
-from summarize.document import Document, Segmentation, Summary
 
 VERSIONED_PACKAGES = (
     "archive-summarizer",
@@ -44,7 +44,7 @@ VERSIONED_PACKAGES = (
 
 
 def now() -> str:
-    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+    return datetime.now(UTC).isoformat(timespec="seconds")
 
 
 def library_versions() -> dict:

@@ -13,17 +13,22 @@ from pathlib import Path
 
 import click
 
-from store.export import FORMATS, export as export_summaries
-from store.queries import CAUTION, DocumentNotFound, find as find_documents, show as show_document
+from store.lock import StoreLocked
+from store.queries import DocumentNotFound
+from store.queries import find as find_documents
+from store.queries import show as show_document
 from store.schema import open_database
-from summarize.batch import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
-from summarize.budget import Budget
-from summarize.ingest import RecordFields
-from summarize.jobfile import load_job
-from summarize.models import ModelLoadError
-from summarize.progress import Progress, configure_log_file, log as run_log
-from summarize.runcontrol import StopConditions, parse_until
-from summarize.runlock import StoreLocked
+from summarize.methods.budget import Budget
+from summarize.methods.seq2seq.models import ModelLoadError
+from summarize.output.caution import CAUTION
+from summarize.output.export import FORMATS
+from summarize.output.export import export as export_summaries
+from summarize.reading.ingest import RecordFields
+from summarize.runs.jobfile import load_job
+from summarize.runs.progress import Progress, configure_log_file
+from summarize.runs.progress import log as run_log
+from summarize.runs.runner import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
+from summarize.runs.stopping import StopConditions, parse_until
 
 
 def _fail(message: str) -> None:
@@ -183,7 +188,7 @@ def _seq2seq_options(from_job: dict, given: dict, method_names: list[str]) -> di
         raise click.UsageError("the seq2seq method needs --model DIR (or model in the job file's [seq2seq] table)")
     from dataclasses import fields
 
-    from summarize.abstractive import Seq2SeqSummarizer
+    from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
 
     known = {f.name for f in fields(Seq2SeqSummarizer) if f.init}
     unknown = sorted(set(options) - known)
@@ -201,8 +206,8 @@ def _seq2seq_options(from_job: dict, given: dict, method_names: list[str]) -> di
 def fetch_model(repo_id, dest, revision, allow_pickle_weights):
     """Copy checkpoint REPO_ID from the Hugging Face Hub into --dest (needs a network),
     then check that it loads. Runs use it with `--model DIR`, offline."""
-    from summarize.fetch import CheckpointFetchError, fetch_checkpoint
-    from summarize.models import load_checkpoint
+    from summarize.methods.seq2seq.fetch import CheckpointFetchError, fetch_checkpoint
+    from summarize.methods.seq2seq.models import load_checkpoint
 
     try:
         path = fetch_checkpoint(repo_id, dest, allow_pickle=allow_pickle_weights, revision=revision)
@@ -340,7 +345,7 @@ def score(db_path, budget, methods, wait_lock, as_json):
     """
     # The evaluation modules are imported by their commands only: scipy.stats and
     # NLTK would add most of a second to the start of every other command.
-    from summarize.evaluate import score as score_summaries
+    from summarize.evaluation.scoring import score as score_summaries
 
     _open_existing(db_path).close()
     try:
@@ -371,14 +376,15 @@ def score(db_path, budget, methods, wait_lock, as_json):
 def compare(db_path, budget, measure, resamples, seed, as_json):
     """Compare methods on the stored scores: mean ROUGE per method with bootstrap
     intervals, paired differences from lead, and how much each method copies."""
-    from summarize.compare import compare as compare_methods, format_comparison
+    from summarize.evaluation.compare import compare as compare_methods
+    from summarize.output.tables import comparison_json, format_comparison
 
     _open_existing(db_path).close()
     try:
         comparison = compare_methods(db_path, measure=measure, budget=budget, resamples=resamples, seed=seed)
     except ValueError as error:
         _fail(str(error))
-    click.echo(comparison.to_json() if as_json else format_comparison(comparison))
+    click.echo(comparison_json(comparison) if as_json else format_comparison(comparison))
 
 
 @main.command()
@@ -393,7 +399,7 @@ def compare(db_path, budget, measure, resamples, seed, as_json):
 def report(db_path, out_path, budget, examples, resamples, seed):
     """Write one self-contained HTML report: comparison tables, charts, and the
     best- and worst-scored documents with the chosen sentences highlighted."""
-    from summarize.report import report as write_report
+    from summarize.output.report import report as write_report
 
     _open_existing(db_path).close()
     try:
@@ -421,8 +427,10 @@ def train(db_path, folds, model_kind, seed, wait_lock, as_json):
     store, where `summarize run --methods house-style` finds it. Needs at least 20
     documents with reference summaries.
     """
-    from summarize.compare import compare as compare_methods, format_comparison
-    from summarize.training import TooFewReferences, train as train_method
+    from summarize.evaluation.compare import compare as compare_methods
+    from summarize.methods.learned.training import TooFewReferences
+    from summarize.methods.learned.training import train as train_method
+    from summarize.output.tables import format_comparison
 
     _open_existing(db_path).close()
     say = (lambda text: click.echo(text, err=True)) if not as_json else None
@@ -457,7 +465,7 @@ def choose(db_path, folds, seed, wait_lock, as_json):
     ROUGE-2 and ROUGE-L F1. `summarize run --methods auto` makes the same choice and
     applies it. The decision is kept in the store as a run of its own.
     """
-    from summarize.method_choice import choose as choose_method
+    from summarize.methods.learned.method_choice import choose as choose_method
 
     _open_existing(db_path).close()
     say = lambda text: click.echo(text, err=True)  # noqa: E731 - one-line progress sink

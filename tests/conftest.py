@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import pytest
 import torch
-
 from tiny_checkpoints import build_bart, build_pegasus, build_t5, build_trained_t5
 
 

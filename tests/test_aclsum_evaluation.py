@@ -14,12 +14,12 @@ from __future__ import annotations
 import pytest
 
 from store.writes import Store
-from summarize.bootstrap import PercentileBootstrap
-from summarize.compare import compare
-from summarize.datasets import load_aclsum
-from summarize.evaluate import score
-from summarize.rouge import METRICS
-from summarize.split import split_document
+from summarize.evaluation.bootstrap import PercentileBootstrap
+from summarize.evaluation.compare import compare
+from summarize.evaluation.rouge import METRICS
+from summarize.evaluation.scoring import score
+from summarize.reading.datasets import load_aclsum
+from summarize.reading.split import split_document
 
 pytestmark = pytest.mark.slow
 

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from summarize.document import Span
-from summarize.readers.blocks import HEADING, LIST, Block, assemble
+from store.records import Span
+from summarize.reading.readers.blocks import HEADING, LIST, Block, assemble
 
 
 def test_blocks_join_with_one_blank_line_and_headings_get_spans():

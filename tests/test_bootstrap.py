@@ -10,7 +10,7 @@ import math
 
 import numpy as np
 
-from summarize.bootstrap import PercentileBootstrap
+from summarize.evaluation.bootstrap import PercentileBootstrap
 
 
 def test_mean_interval_covers_the_true_mean_at_the_nominal_rate():

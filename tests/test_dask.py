@@ -12,8 +12,15 @@ import sys
 import time
 
 import pytest
-
-from operations_support import REPO, assert_store_sound, cli_environment, copy_demo_archive, run_cli, summaries, wait_for
+from operations_support import (
+    REPO,
+    assert_store_sound,
+    cli_environment,
+    copy_demo_archive,
+    run_cli,
+    summaries,
+    wait_for,
+)
 
 START_TIMEOUT = 90
 

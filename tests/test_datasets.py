@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from aclsum import ACLSum
 
-from summarize.datasets import load_aclsum
+from summarize.reading.datasets import load_aclsum
 
 
 def test_splits_and_limit_follow_the_package():

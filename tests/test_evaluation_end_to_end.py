@@ -13,12 +13,12 @@ import sqlite3
 import pytest
 from click.testing import CliRunner
 
+from store.records import SourceLink, Span, Summary, SummarySentence
 from store.writes import Store
-from summarize.batch import run_archive
-from summarize.budget import Budget, count_words
 from summarize.cli import main
-from summarize.document import SourceLink, Span, Summary, SummarySentence
-from summarize.matched import BUDGET_RULE_KEY
+from summarize.evaluation.matched import BUDGET_RULE_KEY
+from summarize.methods.budget import Budget, count_words
+from summarize.runs.runner import run_archive
 
 PLANTED = "<script>alert('x')</script>"
 

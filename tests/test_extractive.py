@@ -10,11 +10,11 @@ import numpy as np
 import pytest
 from scipy import sparse
 
-from summarize.budget import Budget, count_words
-from summarize.document import Document
-from summarize.extractive import LeadSummarizer, TextRankSummarizer, TfidfSummarizer, mmr_order
-from summarize.graph import pagerank, top_k_symmetric
-from summarize.split import split_document
+from store.records import Document
+from summarize.methods.budget import Budget, count_words
+from summarize.methods.extractive import LeadSummarizer, TextRankSummarizer, TfidfSummarizer, mmr_order
+from summarize.methods.graph import pagerank, top_k_symmetric
+from summarize.reading.split import split_document
 
 # Texts for the checks below: public-domain style sentences written for the tests.
 ARCHIVE = [

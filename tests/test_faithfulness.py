@@ -11,10 +11,10 @@ import pytest
 from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.metrics.pairwise import cosine_similarity
 
-from summarize.document import Document, Flag
-from summarize.faithfulness import find_dates, number_values, unsupported_facts
-from summarize.split import split_document
-from summarize.support import supporting_sources
+from store.records import Document, Flag
+from summarize.methods.seq2seq.faithfulness import find_dates, number_values, unsupported_facts
+from summarize.methods.seq2seq.support import supporting_sources
+from summarize.reading.split import split_document
 
 SOURCE = (
     "The Brindlemoor Reservoir spillway was inspected on 3 March 2025 by the Tollcaster Water Board.\n\n"

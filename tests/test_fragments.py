@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import pytest
 
-from summarize.fragments import IndexedSource, extractive_fragments, extractiveness, tokens
+from summarize.evaluation.fragments import IndexedSource, extractive_fragments, extractiveness, tokens
 
 
 def test_coverage_and_density_by_hand():
@@ -42,7 +42,7 @@ def test_copied_sentences_have_no_novel_ngrams_across_their_junction():
     # Two sentences copied from different places: every summary word is covered, in two
     # fragments of 3 words: coverage 1, density (9 + 9)/6 = 3. The bigram across the
     # junction ("storm gauges") is not in the source but is not counted: n-grams stay
-    # inside sentences (a choice of ours, stated in summarize.fragments).
+    # inside sentences (a choice of ours, stated in summarize.evaluation.fragments).
     source = "Rain fell overnight. Staff checked the gauges. The storm passed."
     found = extractiveness(source, ["The storm passed.", "checked the gauges"])
     assert (found.coverage, found.density) == pytest.approx((1.0, 3.0))

@@ -15,16 +15,16 @@ import random
 import numpy as np
 
 from store.learned_models import latest_learned_model, save_learned_model
+from store.records import Document
 from store.writes import Store
-from summarize.batch import build_methods, run_archive
-from summarize.budget import Budget
-from summarize.document import Document
-from summarize.held_out import CrossValidation
-from summarize.house_style import HouseStyleSummarizer
-from summarize.method_choice import AutoForRun, HouseStyleForRun
-from summarize.sentence_features import FEATURE_NAMES
-from summarize.split import split_document
-from summarize.training import MIN_REFERENCED_DOCUMENTS, train_in_store, usable_folds
+from summarize.methods.budget import Budget
+from summarize.methods.learned.held_out import CrossValidation
+from summarize.methods.learned.house_style import HouseStyleSummarizer
+from summarize.methods.learned.method_choice import AutoForRun, HouseStyleForRun
+from summarize.methods.learned.sentence_features import FEATURE_NAMES
+from summarize.methods.learned.training import MIN_REFERENCED_DOCUMENTS, train_in_store, usable_folds
+from summarize.reading.split import split_document
+from summarize.runs.runner import build_methods, run_archive
 
 SITES = ["Harrow Fen pumping station", "Copley Ridge substation", "Ostley weir", "Brannock depot",
          "Quaymoor reservoir", "Selby Down culvert", "Tarn End booster", "Wickham Lade sluice"]

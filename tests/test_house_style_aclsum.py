@@ -19,11 +19,11 @@ import json
 import pytest
 
 from store.writes import Store
-from summarize.bootstrap import PercentileBootstrap
-from summarize.compare import compare
-from summarize.datasets import load_aclsum
-from summarize.split import split_document
-from summarize.training import train_in_store
+from summarize.evaluation.bootstrap import PercentileBootstrap
+from summarize.evaluation.compare import compare
+from summarize.methods.learned.training import train_in_store
+from summarize.reading.datasets import load_aclsum
+from summarize.reading.split import split_document
 
 pytestmark = pytest.mark.slow
 PAPERS = 100

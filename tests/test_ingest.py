@@ -15,9 +15,9 @@ import pytest
 from fpdf import FPDF
 from fpdf.enums import EncryptionMethod
 
-from summarize import ingest
-from summarize.document import Document
-from summarize.ingest import IngestProblem, RecordFields, UnreadableFile, iter_archive, read_file
+from store.records import Document
+from summarize.reading import ingest
+from summarize.reading.ingest import IngestProblem, RecordFields, UnreadableFile, iter_archive, read_file
 
 
 def write(path: Path, content: str | bytes) -> Path:
@@ -203,7 +203,7 @@ def test_pdf_text_layer_is_reflowed_with_title_date_and_headings(tmp_path):
             ("body", "Joints will be grit-\nblasted and painted. Follow-\nUp visits are planned."),
         ],
         title="Span Inspection 2023",
-        created=dt.datetime(2023, 5, 17, 10, 0, tzinfo=dt.timezone.utc),
+        created=dt.datetime(2023, 5, 17, 10, 0, tzinfo=dt.UTC),
     )
     document = only(path)
     assert document.text == (

@@ -17,7 +17,6 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-
 from operations_support import (
     assert_store_sound,
     cli_environment,
@@ -25,8 +24,9 @@ from operations_support import (
     start_cli,
     wait_for,
 )
+
+from store.lock import StoreLock, StoreLocked
 from summarize.cli import main
-from summarize.runlock import StoreLock, StoreLocked
 
 
 def _holder_pid(db: Path) -> int | None:
@@ -83,7 +83,7 @@ def test_lock_left_by_a_dead_process_is_taken_over(tmp_path):
 _HOLD_AND_FORK = textwrap.dedent(
     """
     import os, sys, time
-    from summarize.runlock import StoreLock
+    from store.lock import StoreLock
     StoreLock(sys.argv[1]).acquire()
     child = os.fork()
     if child == 0:
@@ -119,7 +119,7 @@ def test_a_killed_holder_frees_the_store_even_when_its_forked_child_lives_on(tmp
 _CONTEND = textwrap.dedent(
     """
     import sys, time
-    from summarize.runlock import StoreLock, StoreLocked
+    from store.lock import StoreLock, StoreLocked
     start = float(sys.argv[2])
     time.sleep(max(0.0, start - time.time()))
     try:

@@ -9,11 +9,11 @@ import socket
 
 import pytest
 import torch
-
-from summarize.document import param_hash
-from summarize.fetch import CheckpointFetchError, fetch_checkpoint
-from summarize.models import ModelLoadError, input_window, load_checkpoint, recommended_settings
 from tiny_checkpoints import build_gpt2
+
+from store.records import param_hash
+from summarize.methods.seq2seq.fetch import CheckpointFetchError, fetch_checkpoint
+from summarize.methods.seq2seq.models import ModelLoadError, input_window, load_checkpoint, recommended_settings
 
 
 @pytest.fixture

@@ -19,7 +19,6 @@ from pathlib import Path
 import psutil
 import pytest
 from click.testing import CliRunner
-
 from operations_support import (
     assert_store_sound,
     count_rows,
@@ -31,12 +30,13 @@ from operations_support import (
     summaries,
     wait_for,
 )
+
+from store.records import Document, Segmentation, SourceLink, Span, Summary, SummarySentence
 from store.writes import Store
-from summarize.batch import run_archive
 from summarize.cli import main
-from summarize.document import Document, Segmentation, Span, SourceLink, Summary, SummarySentence
-from summarize.progress import Progress
-from summarize.runcontrol import StopConditions, parse_until
+from summarize.runs.progress import Progress
+from summarize.runs.runner import run_archive
+from summarize.runs.stopping import StopConditions, parse_until
 
 ARCHIVE_SIZE = 50
 KILL_ROUNDS = 10

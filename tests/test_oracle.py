@@ -8,10 +8,10 @@ from dataclasses import replace
 import pytest
 from rouge_score import rouge_scorer
 
-from summarize.budget import Budget, count_words
-from summarize.datasets import load_aclsum
-from summarize.oracle import OracleSummarizer
-from summarize.split import split_document
+from summarize.evaluation.oracle import OracleSummarizer
+from summarize.methods.budget import Budget, count_words
+from summarize.reading.datasets import load_aclsum
+from summarize.reading.split import split_document
 
 DIRECT = rouge_scorer.RougeScorer(["rouge1", "rouge2"], use_stemmer=True)
 

@@ -10,8 +10,8 @@ import docx
 import pytest
 from fpdf import FPDF
 
-from summarize.document import Document
-from summarize.ingest import UnreadableFile, iter_archive, read_file
+from store.records import Document
+from summarize.reading.ingest import UnreadableFile, iter_archive, read_file
 
 
 def write(path: Path, content: str | bytes) -> Path:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from summarize.readers.reflow import Line, join_wrapped, reflow
+from summarize.reading.readers.reflow import Line, join_wrapped, reflow
 
 
 @pytest.mark.parametrize(

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import pytest
 
-from summarize.rouge import RougeMetric
+from summarize.evaluation.rouge import RougeMetric
 
 REFERENCE = ["police killed the gunman"]  # Lin (2004), section 3.1: S1 used as the reference
 S2 = ["police kill the gunman"]

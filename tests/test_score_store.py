@@ -10,10 +10,10 @@ import random
 import pytest
 from rouge_score import rouge_scorer
 
+from store.records import Document, SourceLink, Span, Summary, SummarySentence
 from store.writes import Store
-from summarize.document import Document, SourceLink, Span, Summary, SummarySentence
-from summarize.evaluate import score_store
-from summarize.split import sentence_spans, split_document
+from summarize.evaluation.scoring import score_store
+from summarize.reading.split import sentence_spans, split_document
 
 WORDS = (
     "valve valves inspected inspecting inspection pump pumps pumped gauge gauges reading readings "

@@ -12,20 +12,20 @@ import sqlite3
 
 import pytest
 import torch
-
-from summarize.abstractive import Seq2SeqSummarizer
-from summarize.batch import run_archive
-from summarize.document import Document, Span
-from summarize.generation import GenerationSettings, generate_texts
-from summarize.models import load_checkpoint
-from summarize.split import split_document
-from summarize.windowing import TokenCounter
 from tiny_checkpoints import (
     COLOUR_CODES,
     REPORT_TEXT,
     colour_report,
     colour_summary,
 )
+
+from store.records import Document, Span
+from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
+from summarize.methods.seq2seq.generation import GenerationSettings, generate_texts
+from summarize.methods.seq2seq.models import load_checkpoint
+from summarize.methods.seq2seq.windowing import TokenCounter
+from summarize.reading.split import split_document
+from summarize.runs.runner import run_archive
 
 GREEDY = dict(num_beams=1, min_new_tokens=6, max_new_tokens=12, threads=1)
 
@@ -249,7 +249,7 @@ def test_generated_sentences_link_to_valid_source_spans_and_flag_the_invented_nu
 
 
 def test_a_failing_document_does_not_stop_the_others(tiny_t5, monkeypatch):
-    import summarize.generation as generation
+    import summarize.methods.seq2seq.generation as generation
 
     items = _archive(3)
     real = generation._batch_generate
@@ -333,7 +333,7 @@ def test_spans_in_the_store_slice_back_to_source_sentences(trained_t5, tmp_path)
 
 
 def test_an_unusable_model_stops_run_archive_before_the_store_is_opened(tmp_path):
-    from summarize.models import ModelLoadError
+    from summarize.methods.seq2seq.models import ModelLoadError
 
     archive = tmp_path / "archive"
     archive.mkdir()

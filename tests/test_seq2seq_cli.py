@@ -8,9 +8,9 @@ import sqlite3
 
 import pytest
 from click.testing import CliRunner
+from tiny_checkpoints import build_gpt2, colour_report
 
 from summarize.cli import main
-from tiny_checkpoints import build_gpt2, colour_report
 
 
 @pytest.fixture(scope="session")

@@ -11,8 +11,8 @@ from __future__ import annotations
 
 import pytest
 
-from summarize.document import Document, Span
-from summarize.split import sentence_spans, split_document
+from store.records import Document, Span
+from summarize.reading.split import sentence_spans, split_document
 
 # (rule name, text, expected sentences) -- all recalled from memory.
 GOLDEN_RULES = [

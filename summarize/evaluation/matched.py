@@ -1,0 +1,159 @@
+"""Summaries at matched budgets, made from what the store already holds.
+
+ROUGE F1 moves with summary length, so methods are compared at the same length:
+by default each document's budget is its reference summary's length in words; or
+one fixed number of words for every document. The extractive oracle is added at the
+matched budget and at every budget already stored, so each comparison shows its
+upper bound.
+
+Documents are rebuilt from the store (text and stored sentence spans), so the
+summaries point into exactly the text that was stored; TF-IDF is fitted over every
+active document in the store.
+"""
+
+from __future__ import annotations
+
+import copy
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+from store.documents import stored_document
+from store.evaluation import active_texts, referenced_document_ids, stored_summary_budgets
+from store.records import param_hash
+from store.writes import Store
+from summarize.evaluation.oracle import OracleSummarizer
+from summarize.methods.baselines import RandomSummarizer
+from summarize.methods.budget import Budget, count_words
+from summarize.methods.extractive import EXTRACTIVE_METHODS
+
+# Marks, in a summary's params, a budget set per document from its reference.
+BUDGET_RULE_KEY = "budget_rule"
+REFERENCE_WORDS = "reference-words"
+
+SUMMARIZERS = {**EXTRACTIVE_METHODS, "random": RandomSummarizer, "oracle": OracleSummarizer}
+MATCHED_METHODS = ("lead", "tfidf", "textrank", "oracle")
+
+
+@dataclass(frozen=True)
+class MatchedBudget:
+    """``words=None``: each document's reference length in words (``count_words``);
+    ``words=N``: N words for every document."""
+
+    words: int | None = None
+
+    @classmethod
+    def parse(cls, spec: str | int) -> MatchedBudget:
+        """``"reference"``, or a number of words (``"120"`` or ``"120w"``)."""
+        value = str(spec).strip().lower()
+        if value == "reference":
+            return cls()
+        try:
+            words = int(value.removesuffix("w"))
+        except ValueError:
+            raise ValueError(f"budget {spec!r}: expected 'reference' or a number of words such as 120") from None
+        if words < 1:
+            raise ValueError(f"budget {spec!r}: the number of words must be at least 1")
+        return cls(words=words)
+
+    def budget_for(self, reference: str) -> Budget:
+        return Budget(words=self.words if self.words is not None else max(1, count_words(reference)))
+
+    def tagged(self, params: dict) -> dict:
+        """A fixed budget is an ordinary word budget; a per-document one is marked, so
+        it is grouped as one budget and its summaries never collide with a fixed one."""
+        return params if self.words is not None else {**params, BUDGET_RULE_KEY: REFERENCE_WORDS}
+
+    def label(self) -> str:
+        return budget_label(self.tagged({"budget": {"words": self.words or 1}}))
+
+
+def budget_label(params: dict) -> str:
+    """How long a stored summary was allowed to be, in words a reader understands."""
+    if params.get(BUDGET_RULE_KEY) == REFERENCE_WORDS:
+        return "matched: each reference's length in words"
+    try:
+        return str(Budget(**params["budget"]))
+    except (KeyError, TypeError, ValueError):
+        pass
+    generation = params.get("generation") if isinstance(params.get("generation"), dict) else {}
+    if "max_new_tokens" in generation:
+        low = generation.get("min_new_tokens", 0)
+        return f"the method's own length: {low} to {generation['max_new_tokens']} generated tokens"
+    return "the method's own length setting"
+
+
+def is_matched(params: dict) -> bool:
+    return params.get(BUDGET_RULE_KEY) == REFERENCE_WORDS
+
+
+def _with_budget(method, budget: Budget):
+    # A shallow copy keeps what ``fit`` learned (TF-IDF's vectorizer) under a new budget.
+    adjusted = copy.copy(method)
+    adjusted.budget = budget
+    return adjusted
+
+
+def add_matched_summaries(
+    store: Store,
+    run_id: int,
+    budget: MatchedBudget,
+    methods: Sequence[str] = MATCHED_METHODS,
+    progress: Callable[[str], None] | None = None,
+) -> int:
+    """Summarize every active document with a reference with each of ``methods`` at
+    the matched budget; returns how many summaries were added (stored ones are kept)."""
+    unknown = [name for name in methods if name not in SUMMARIZERS]
+    if unknown:
+        raise ValueError(f"unknown methods {unknown} (known: {', '.join(sorted(SUMMARIZERS))})")
+    prototypes = [SUMMARIZERS[name]() for name in methods]
+    missing = []
+    for document_id in referenced_document_ids(store.db):
+        document, segmentation = stored_document(store.db, document_id)
+        document_budget = budget.budget_for(document.reference_summary)
+        todo = []
+        for prototype in prototypes:
+            params = budget.tagged(_with_budget(prototype, document_budget).get_params())
+            if not store.has_summary(document_id, prototype.name, param_hash(prototype.name, params)):
+                todo.append(prototype)
+        if todo:
+            missing.append((document_id, document, segmentation, document_budget, todo))
+    if not missing:
+        return 0
+    texts = active_texts(store.db)
+    fitted = {id(prototype) for _, _, _, _, todo in missing for prototype in todo}
+    for prototype in prototypes:
+        if id(prototype) in fitted:
+            prototype.fit(texts)
+    for number, (document_id, document, segmentation, document_budget, todo) in enumerate(missing, 1):
+        for prototype in todo:
+            method = _with_budget(prototype, document_budget)
+            summary = method.summarize(document, segmentation)
+            summary.params = budget.tagged(summary.params)
+            store.add_summary(document_id, run_id, summary)
+        if progress and (number % 25 == 0 or number == len(missing)):
+            progress(f"matched-budget summaries: {number}/{len(missing)} documents")
+    return sum(len(todo) for *_, todo in missing)
+
+
+def add_oracle_at_stored_budgets(
+    store: Store, run_id: int, progress: Callable[[str], None] | None = None
+) -> int:
+    """Add an oracle summary beside every stored budget of a document with a
+    reference (sentence, word or ratio budgets), so every budget has its upper bound."""
+    pairs = set()
+    for document_id, params in stored_summary_budgets(store.db, exclude_methods=("oracle",)):
+        if is_matched(params) or "budget" not in params:
+            continue
+        try:
+            budget = Budget(**params["budget"])
+        except (TypeError, ValueError):
+            continue
+        oracle = OracleSummarizer(budget=budget)
+        if not store.has_summary(document_id, oracle.name, param_hash(oracle.name, oracle.get_params())):
+            pairs.add((document_id, budget))
+    for number, (document_id, budget) in enumerate(sorted(pairs, key=lambda p: (p[0], str(p[1]))), 1):
+        document, segmentation = stored_document(store.db, document_id)
+        store.add_summary(document_id, run_id, OracleSummarizer(budget=budget).summarize(document, segmentation))
+        if progress and (number % 25 == 0 or number == len(pairs)):
+            progress(f"oracle summaries at stored budgets: {number}/{len(pairs)}")
+    return len(pairs)

@@ -1,0 +1,317 @@
+"""Turning the files of an archive into ``Document`` records.
+
+``iter_archive`` walks files and folders and yields a ``Document`` for every
+readable unit and an ``IngestProblem`` for everything else, so one bad file
+never stops a batch. ``read_file`` reads a single file and raises
+``UnreadableFile`` instead.
+
+Conventions:
+
+* Folders are walked depth first, entries sorted by name; names starting with
+  '.' are skipped while walking (a hidden path given explicitly is read).
+* ``record_key`` is the absolute path (made absolute, links not resolved); a JSON/JSONL record adds
+  '#<id>' (its id field) or '#<N>' (its position: element N of a .json list,
+  line N of a .jsonl file, both from 1).
+* Reference summaries are taken, in order of precedence, from a sidecar file
+  (``NAME.summary.txt`` or ``.md``), from front matter or a record field, or
+  from a leading summary section. A leading summary section is cut out of the
+  text even when a sidecar or front matter supplies the reference, since the
+  text would otherwise contain its own summary; it is then kept in the
+  metadata under 'leading_summary_section'. JSON records take no sidecar.
+* Title: the format's own (front matter, <title>, PDF or DOCX properties,
+  e-mail subject, record field), else a 'Title:' line near the top, else the
+  first heading that is not a numbered section ('1. Scope' names a section,
+  not the document), else the file name without suffix. Date: the format's own,
+  else a 'Date:' line near the top, else None.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass
+from pathlib import Path
+
+from store.records import Document
+from summarize.reading.readers.blocks import Extract, assemble
+from summarize.reading.readers.docx import read_docx
+from summarize.reading.readers.errors import ReadError
+from summarize.reading.readers.headings import is_numbered_section
+from summarize.reading.readers.html import read_html
+from summarize.reading.readers.mail import read_eml
+from summarize.reading.readers.pdf import read_pdf
+from summarize.reading.readers.preamble import preamble_fields
+from summarize.reading.readers.records import RecordFields, RecordOutcome, read_records
+from summarize.reading.readers.references import find_leading_section
+from summarize.reading.readers.sidecars import find_sidecar, is_sidecar_name, read_sidecar, sidecar_stem
+from summarize.reading.readers.textfiles import read_md, read_rst, read_txt
+
+__all__ = [
+    "SUPPORTED_SUFFIXES",
+    "IngestProblem",
+    "RecordFields",
+    "UnreadableFile",
+    "iter_archive",
+    "read_file",
+]
+
+_FORMAT_BY_SUFFIX = {
+    ".txt": "txt",
+    ".md": "md",
+    ".markdown": "md",
+    ".rst": "rst",
+    ".html": "html",
+    ".htm": "html",
+    ".pdf": "pdf",
+    ".docx": "docx",
+    ".eml": "eml",
+    ".json": "json",
+    ".jsonl": "jsonl",
+}
+SUPPORTED_SUFFIXES: frozenset[str] = frozenset(_FORMAT_BY_SUFFIX)
+
+_FILE_READERS: dict[str, Callable[[bytes], Extract]] = {
+    "txt": read_txt,
+    "md": read_md,
+    "rst": read_rst,
+    "html": read_html,
+    "pdf": read_pdf,
+    "docx": read_docx,
+    "eml": read_eml,
+}
+_FORMAT_NAMES = {"txt": "text", "md": "Markdown", "rst": "reStructuredText", "html": "HTML", "pdf": "PDF",
+                 "docx": "DOCX", "eml": "e-mail", "json": "JSON", "jsonl": "JSON Lines"}
+
+
+@dataclass(frozen=True)
+class IngestProblem:
+    """One file (or record) that gave no document. ``kind`` is 'error' for
+    unreadable or malformed input and 'skipped' for input that is not meant to
+    be read (unsupported type, stray summary sidecar)."""
+
+    path: str
+    reason: str
+    kind: str
+
+    def __str__(self) -> str:
+        return f"{self.path}: {self.reason}"
+
+
+class UnreadableFile(Exception):
+    """A file that cannot be read; ``str()`` is 'path: reason' on one line."""
+
+    def __init__(self, path: str, reason: str) -> None:
+        super().__init__(path, reason)
+        self.path = path
+        self.reason = reason
+
+    def __str__(self) -> str:
+        return f"{self.path}: {self.reason}"
+
+
+def iter_archive(
+    paths: Iterable[str | Path], fields: RecordFields = RecordFields()
+) -> Iterator[Document | IngestProblem]:
+    """Documents and problems for the given files and folders, in a
+    deterministic order. Summary sidecars next to a document are not yielded."""
+    seen: set[Path] = set()
+    for given in paths:
+        # Absolute keys, so that `archive/` one night and `/srv/archive` the next name
+        # the same records (links are not resolved: the path the operator uses counts).
+        path = Path(os.path.abspath(given))
+        if not path.exists():
+            yield IngestProblem(str(path), "no such file or directory", "error")
+            continue
+        for file in _walk(path, set()) if path.is_dir() else [path]:
+            if isinstance(file, IngestProblem):
+                yield file
+                continue
+            resolved = file.resolve()
+            if resolved in seen:
+                continue
+            seen.add(resolved)
+            yield from _ingest(file, fields)
+
+
+def read_file(path: str | Path, fields: RecordFields = RecordFields()) -> list[Document]:
+    """The documents in one file (one per record for JSON/JSONL). Raises
+    ``UnreadableFile`` when the file, its sidecar or any of its records is bad."""
+    key = str(Path(path))
+    items = _read(Path(path), fields)
+    problems = [item for item in items if isinstance(item, IngestProblem)]
+    if problems:
+        more = f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""
+        raise UnreadableFile(key, _problem_within(problems[0], key) + more)
+    return [item for item in items if isinstance(item, Document)]
+
+
+def _problem_within(problem: IngestProblem, key: str) -> str:
+    """A problem described relative to its file: 'line 7: ...', 'record 3: ...',
+    or the sidecar's own path and reason."""
+    prefix = key + "#"
+    if problem.path.startswith(prefix):
+        locator = problem.path[len(prefix) :]
+        where = locator if locator.startswith("line") else f"record {locator}"
+        return f"{where}: {problem.reason}"
+    return str(problem)
+
+
+def _walk(directory: Path, visited: set[Path]) -> Iterator[Path | IngestProblem]:
+    """Files under a folder, depth first, sorted by name, hidden names skipped;
+    a folder reached twice through links is walked once; a folder that cannot be
+    listed is a problem."""
+    real = directory.resolve()
+    if real in visited:
+        return
+    visited.add(real)
+    try:
+        entries = sorted(directory.iterdir(), key=lambda entry: entry.name)
+    except OSError as exc:
+        yield IngestProblem(str(directory), f"cannot list folder ({exc.strerror or exc})", "error")
+        return
+    for entry in entries:
+        if entry.name.startswith("."):
+            continue
+        if entry.is_dir():
+            yield from _walk(entry, visited)
+        else:
+            yield entry
+
+
+def _ingest(path: Path, fields: RecordFields) -> Iterator[Document | IngestProblem]:
+    if is_sidecar_name(path):
+        if not _has_partner_document(path):
+            yield IngestProblem(str(path), "summary sidecar with no document of the same name beside it", "skipped")
+        return
+    if path.suffix.lower() not in SUPPORTED_SUFFIXES:
+        yield IngestProblem(str(path), _unsupported(path), "skipped")
+        return
+    try:
+        yield from _read(path, fields)
+    except UnreadableFile as exc:
+        yield IngestProblem(exc.path, exc.reason, "error")
+
+
+def _has_partner_document(sidecar: Path) -> bool:
+    stem = sidecar_stem(sidecar)
+    return any(sidecar.with_name(stem + suffix).is_file() for suffix in SUPPORTED_SUFFIXES)
+
+
+def _read(path: Path, fields: RecordFields) -> list[Document | IngestProblem]:
+    """Documents of one file, in file order, with the problems that did not stop
+    it (bad records, an unreadable sidecar). Raises ``UnreadableFile`` when the
+    file as a whole cannot be read."""
+    key = str(path)
+    if path.is_dir():
+        raise UnreadableFile(key, "is a directory")
+    file_format = _FORMAT_BY_SUFFIX.get(path.suffix.lower())
+    if file_format is None:
+        raise UnreadableFile(key, _unsupported(path))
+    raw = _read_bytes(path)
+    if not raw:
+        raise UnreadableFile(key, "empty file")
+    try:
+        if file_format in ("json", "jsonl"):
+            return _record_documents(path, raw, file_format, fields)
+        extract = _FILE_READERS[file_format](raw)
+        problems = _add_sidecar(path, extract)
+        document = _document(extract, key, key, file_format, raw, fallback_title=path.stem)
+    except ReadError as exc:
+        raise UnreadableFile(key, str(exc)) from None
+    except Exception as exc:  # noqa: BLE001 - parser libraries raise anything; the batch must go on
+        raise UnreadableFile(key, _unexpected(file_format, exc)) from None
+    return [*problems, document]
+
+
+def _unsupported(path: Path) -> str:
+    return f"unsupported file type '{path.suffix}'" if path.suffix else "unsupported file type (no suffix)"
+
+
+def _read_bytes(path: Path) -> bytes:
+    try:
+        return path.read_bytes()
+    except FileNotFoundError:
+        raise UnreadableFile(str(path), "no such file or directory") from None
+    except OSError as exc:
+        raise UnreadableFile(str(path), f"cannot read file ({exc.strerror or exc})") from None
+
+
+def _add_sidecar(path: Path, extract: Extract) -> list[IngestProblem]:
+    sidecar = find_sidecar(path)
+    if sidecar is None:
+        return []
+    try:
+        summary = read_sidecar(sidecar)
+    except ReadError as exc:
+        return [IngestProblem(str(sidecar), str(exc), "error")]
+    extract.reference_summary = summary
+    extract.reference_source = f"sidecar:{sidecar.name}"
+    return []
+
+
+def _record_documents(
+    path: Path, raw: bytes, file_format: str, fields: RecordFields
+) -> list[Document | IngestProblem]:
+    items: list[Document | IngestProblem] = []
+    for outcome in read_records(raw, line_oriented=file_format == "jsonl", fields=fields):
+        record_path = f"{path}#{outcome.locator}"
+        if outcome.extract is None:
+            items.append(IngestProblem(record_path, outcome.problem or "unreadable record", "error"))
+            continue
+        try:
+            items.append(_record_document(path, outcome, file_format))
+        except ReadError as exc:
+            items.append(IngestProblem(record_path, str(exc), "error"))
+    return items
+
+
+def _record_document(path: Path, outcome: RecordOutcome, file_format: str) -> Document:
+    return _document(
+        outcome.extract,
+        record_key=f"{path}#{outcome.key}",
+        path=str(path),
+        file_format=file_format,
+        raw=outcome.canonical,
+        fallback_title=f"{path.stem} #{outcome.key}",
+    )
+
+
+def _document(extract: Extract, record_key: str, path: str, file_format: str, raw: bytes, fallback_title: str) -> Document:
+    blocks = extract.blocks
+    leading = find_leading_section(blocks)
+    if leading is not None:
+        blocks = leading.remaining
+        if extract.reference_summary is None:
+            extract.reference_summary = leading.body
+            extract.reference_source = f"section:{leading.heading}"
+        else:
+            extract.metadata["leading_summary_section"] = {"heading": leading.heading, "text": leading.body}
+    text, headings = assemble(blocks)
+    if not text:
+        raise ReadError("no text content")
+    preamble_title, preamble_date = preamble_fields(blocks)
+    title_heading = next(
+        (span.slice(text) for span in headings if not is_numbered_section(span.slice(text))), None
+    )
+    return Document(
+        record_key=record_key,
+        path=path,
+        text=text,
+        format=file_format,
+        sha256=hashlib.sha256(raw).hexdigest(),
+        size=len(raw),
+        title=extract.title or preamble_title or title_heading or fallback_title,
+        date=extract.date or preamble_date,
+        encoding=extract.encoding,
+        reference_summary=extract.reference_summary,
+        reference_source=extract.reference_source,
+        headings=headings,
+        metadata=extract.metadata,
+    )
+
+
+def _unexpected(file_format: str, exc: Exception) -> str:
+    lines = str(exc).strip().splitlines()
+    detail = f"{type(exc).__name__}: {lines[0]}" if lines else type(exc).__name__
+    return f"could not read {_FORMAT_NAMES[file_format]} file ({detail})"

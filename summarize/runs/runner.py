@@ -1,0 +1,420 @@
+"""The batch runner: ingest an archive, split, summarize with each method, store.
+
+    report = run_archive(["archive/"], "store.sqlite", methods=["lead", "tfidf"])
+
+Two passes, one direction:
+
+1. *Read*: every file is read, and split and stored (one small transaction per
+   document) unless the same record with the same content hash is already stored;
+   splitting runs wherever the summaries will (here, worker processes, Dask). Unreadable
+   files are recorded with their reason; stored records whose file has gone are
+   marked ``missing``, never deleted.
+2. *Summarize*: archive-wide statistics are fitted on the documents read (TF-IDF's
+   IDF), then every (document, method, parameter hash) not yet stored is computed —
+   here, in worker processes, or on a Dask cluster — and written by this process
+   alone, one document per transaction.
+
+So an interrupted run loses at most the documents in flight, and a rerun does only
+what is missing. The run stops cleanly between documents at its time budget or on
+SIGINT/SIGTERM, and says how much remains.
+"""
+
+from __future__ import annotations
+
+import os
+import time
+from collections.abc import Iterable, Iterator
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+from store.documents import stored_document
+from store.lock import StoreLock, describe_holder
+from store.records import Document, param_hash
+from store.writes import Store
+from summarize.methods.budget import Budget
+from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
+from summarize.reading.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
+from summarize.reading.readers.sidecars import is_sidecar_name
+from summarize.runs.executors import check_scheduler, make_executor
+from summarize.runs.progress import Progress
+from summarize.runs.stopping import StopConditions
+
+# Exit statuses of `summarize run` (documented in the README).
+EXIT_OK = 0
+EXIT_FAILED = 1
+EXIT_SOME_FILES_FAILED = 3
+EXIT_STOPPED_EARLY = 4
+
+# Methods settled once the archive is read (summarize/method_choice.py).
+RUN_TIME_METHOD_NAMES = ("house-style", "auto")
+METHOD_NAMES = (*EXTRACTIVE_METHODS, "seq2seq", *RUN_TIME_METHOD_NAMES)
+
+
+@dataclass
+class RunReport:
+    """What a run did, for the command line and for the ``runs.counts`` column."""
+
+    run_id: int
+    documents_seen: int = 0
+    documents_added: int = 0
+    duplicates: int = 0
+    missing: int = 0
+    summaries_added: int = 0
+    summaries_skipped: int = 0
+    documents_remaining: int = 0
+    files_unread: int = 0
+    stop_reason: str | None = None
+    errors: list[str] = field(default_factory=list)
+    skipped_files: list[str] = field(default_factory=list)
+    failed_summaries: list[str] = field(default_factory=list)
+    seconds: float = 0.0
+    documents_summarized: int = 0
+
+    @property
+    def exit_status(self) -> int:
+        if self.stop_reason:
+            return EXIT_STOPPED_EARLY
+        return EXIT_SOME_FILES_FAILED if self.errors or self.failed_summaries else EXIT_OK
+
+    def counts(self) -> dict:
+        return {
+            "documents_seen": self.documents_seen,
+            "documents_added": self.documents_added,
+            "duplicates": self.duplicates,
+            "missing": self.missing,
+            "summaries_added": self.summaries_added,
+            "summaries_skipped": self.summaries_skipped,
+            "documents_summarized": self.documents_summarized,
+            "documents_remaining": self.documents_remaining,
+            "files_unread": self.files_unread,
+            "files_failed": len(self.errors),
+            "files_skipped": len(self.skipped_files),
+            "summaries_failed": len(self.failed_summaries),
+            "stop_reason": self.stop_reason,
+            "seconds": round(self.seconds, 3),
+            "documents_per_second": round(self.documents_summarized / self.seconds, 3) if self.seconds else None,
+        }
+
+
+def build_methods(
+    names: Iterable[str],
+    budget: Budget = DEFAULT_BUDGET,
+    mmr_lambda: float | None = None,
+    seq2seq_options: dict | None = None,
+) -> list:
+    """Instantiate the named methods with a shared budget. ``seq2seq`` takes its
+    model and generation settings from ``seq2seq_options``."""
+    methods = []
+    for name in names:
+        if name == "seq2seq":
+            from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
+
+            methods.append(Seq2SeqSummarizer(**(seq2seq_options or {})))
+            continue
+        if name in RUN_TIME_METHOD_NAMES:
+            from summarize.methods.learned.method_choice import RUN_TIME_METHODS
+
+            methods.append(RUN_TIME_METHODS[name](budget=budget, mmr_lambda=mmr_lambda))
+            continue
+        if name not in EXTRACTIVE_METHODS:
+            raise ValueError(f"unknown method {name!r} (known: {', '.join(METHOD_NAMES)})")
+        kwargs = {"budget": budget}
+        if name in ("tfidf", "textrank"):
+            kwargs["mmr_lambda"] = mmr_lambda
+        methods.append(EXTRACTIVE_METHODS[name](**kwargs))
+    return methods
+
+
+def _under(record_key: str, roots: list[str]) -> bool:
+    path = record_key.split("#", 1)[0]
+    return any(path == root or path.startswith(root.rstrip(os.sep) + os.sep) for root in roots)
+
+
+def _file_of(key: str) -> str:
+    """The file behind a record key or problem path ('a.jsonl#3' -> 'a.jsonl')."""
+    return key.split("#", 1)[0]
+
+
+def _archive_files(paths: list[str]) -> Iterator[str]:
+    """The document files under ``paths`` as the archive walk names them (sorted,
+    hidden names and summary sidecars left out), without reading any of them: used
+    to say how much of the archive a stopped run has not read yet."""
+    for given in paths:
+        root = Path(given)
+        if root.is_file():
+            yield str(root)
+            continue
+        stack = [root]
+        while stack:
+            folder = stack.pop()
+            try:
+                entries = sorted(folder.iterdir(), key=lambda entry: entry.name, reverse=True)
+            except OSError:
+                continue
+            for entry in entries:
+                if entry.name.startswith("."):
+                    continue
+                if entry.is_dir():
+                    stack.append(entry)
+                elif entry.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(entry):
+                    yield str(entry)
+
+
+def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler) -> list[int]:
+    """Pass 1. Returns the ids of the current, non-duplicate documents seen.
+
+    This process reads the files and writes the store; splitting new documents into
+    sentences (the costly part) goes to the executor, and comes back in archive order.
+    """
+    seen_keys: set[str] = set()
+    files_visited: set[str] = set()
+    files_failed: set[str] = set()
+    document_ids: list[int] = []
+    walked_everything = True
+
+    def counted(document_id: int, added: bool, status: str) -> None:
+        report.documents_seen += 1
+        report.documents_added += int(added)
+        if status == "duplicate":
+            report.duplicates += 1
+        else:
+            document_ids.append(document_id)
+
+    def new_documents() -> Iterator[Document]:
+        """Walk the archive; record problems and known documents at once; yield the
+        documents to split and store."""
+        nonlocal walked_everything
+        for item in iter_archive(paths, fields):
+            if stop.reason():
+                walked_everything = False
+                return
+            if isinstance(item, IngestProblem):
+                files_visited.add(_file_of(item.path))
+                store.record_problem(run_id, item.path, item.kind, item.reason)
+                if item.kind == "error":
+                    files_failed.add(_file_of(item.path))
+                    report.errors.append(str(item))
+                    progress.error(str(item))
+                else:
+                    report.skipped_files.append(str(item))
+                continue
+            if item.path not in files_visited:
+                files_visited.add(item.path)
+                progress.advance()
+            seen_keys.add(item.record_key)
+            if store.find_document(item.record_key, item.sha256) is not None:
+                counted(*store.add_document(item, None, run_id))
+            else:
+                yield item
+
+    progress.start(None, "files read")
+    with make_executor([], workers=workers, scheduler=scheduler) as executor:
+        for document, segmentation in executor.split_documents(new_documents(), stop):
+            if isinstance(segmentation, Exception):
+                store.record_problem(run_id, document.record_key, "error", str(segmentation))
+                report.errors.append(f"{document.record_key}: {segmentation}")
+                progress.error(f"{document.record_key}: {segmentation}")
+                continue
+            counted(*store.add_document(document, segmentation, run_id))
+    progress.close()
+    if not walked_everything:
+        report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
+        return document_ids
+    roots = [os.path.abspath(p) for p in paths]
+    for document_id, record_key in store.db.execute(
+        "select id, record_key from documents where status = 'active'"
+    ).fetchall():
+        # A file that is still there but failed to read this time keeps its last good version.
+        if record_key not in seen_keys and _file_of(record_key) not in files_failed and _under(record_key, roots):
+            store.mark_missing(document_id)
+            report.missing += 1
+    return document_ids
+
+
+def run_archive(
+    paths: Iterable[str | Path],
+    db_path: str,
+    methods: Iterable[str] = ("lead", "tfidf", "textrank"),
+    budget: Budget = DEFAULT_BUDGET,
+    mmr_lambda: float | None = None,
+    fields: RecordFields = RecordFields(),
+    seq2seq_options: dict | None = None,
+    summarizers: list | None = None,
+    workers: int = 1,
+    scheduler: str | None = None,
+    stop: StopConditions | None = None,
+    lock_wait_seconds: float = 0.0,
+    progress: Progress | None = None,
+    config_extra: dict | None = None,
+) -> RunReport:
+    """Summarize every document under ``paths`` into the store at ``db_path``.
+
+    ``summarizers`` may pass ready-made method objects instead of names (they must
+    offer ``name``, ``get_params``, ``fit`` and ``summarize``). Raises
+    :class:`~store.lock.StoreLocked` when another run holds the store.
+    """
+    paths = [str(p) for p in paths]
+    started = time.perf_counter()
+    progress = progress or Progress()
+    stop = stop or StopConditions()
+    active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
+    # A model that cannot be loaded stops the run here, before the store is touched.
+    for method in active:
+        if hasattr(method, "load"):
+            method.load()
+    if scheduler:
+        check_scheduler(scheduler)
+    lock = StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress.message)
+    with lock, stop:
+        if lock.stale_holder:
+            progress.message(
+                f"took over the lock left by {describe_holder(lock.stale_holder)}, which is no longer running"
+            )
+        store = Store(db_path)
+        interrupted = store.close_interrupted_runs()
+        if interrupted:
+            progress.message(f"{interrupted} earlier run(s) had been interrupted; doing what they left undone")
+        config = {
+            "paths": paths,
+            "methods": {m.name: m.get_params() for m in active},
+            "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
+            "record_fields": asdict(fields),
+            "workers": workers,
+            "scheduler": scheduler,
+            "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
+            **(config_extra or {}),
+        }
+        run_id = store.begin_run("run", config)
+        report = RunReport(run_id=run_id)
+        status = "failed"
+        try:
+            document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler)
+            progress.message(
+                f"read {report.documents_seen} documents ({report.documents_added} new, "
+                f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"
+            )
+            if not stop.reason():
+                active = _resolve_run_time_methods(store, run_id, active, config, progress)
+            if stop.reason():
+                # Each file not read yet holds at least one document still to do.
+                pending = len(_pending(store, document_ids, active, report))
+                report.documents_remaining = pending + report.files_unread
+            else:
+                _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
+            report.stop_reason = stop.reason()
+            if report.stop_reason:
+                unread = f" (at least: {report.files_unread} files not read yet)" if report.files_unread else ""
+                progress.message(
+                    f"{report.stop_reason}: {report.documents_remaining} documents remain to summarize{unread}; "
+                    "rerun the same command to finish them"
+                )
+            status = "stopped" if report.stop_reason else "completed"
+        finally:
+            report.seconds = time.perf_counter() - started
+            store.finish_run(run_id, status, report.counts())
+            store.close()
+            progress.close()
+    return report
+
+
+def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: dict, progress: Progress) -> list:
+    """Methods that depend on the store (a trained model, a choice by held-out ROUGE)
+    become concrete once the archive is read; the run's configuration records what
+    each became and why."""
+    deferred = [method for method in active if hasattr(method, "resolve")]
+    if not deferred:
+        return active
+    resolved: list = []
+    for method in active:
+        concrete = method.resolve(store, run_id, progress.message) if hasattr(method, "resolve") else method
+        if not any(m.name == concrete.name and m.get_params() == concrete.get_params() for m in resolved):
+            resolved.append(concrete)
+    config["decisions"] = {method.name: method.decision for method in deferred}
+    config["methods"] = {method.name: method.get_params() for method in resolved}
+    store.update_run_config(run_id, config)
+    return resolved
+
+
+def _pending(store: Store, document_ids: list[int], active: list, report: RunReport) -> dict[int, set[str]]:
+    """Method names still to run, per document (one query per method); counts the
+    summaries already stored as skipped."""
+    done = {
+        method.name: store.documents_with_summary(method.name, param_hash(method.name, method.get_params()))
+        for method in active
+    }
+    todo: dict[int, set[str]] = {}
+    for document_id in document_ids:
+        names = {
+            method.name
+            for method in active
+            if document_id not in done[method.name]
+            and document_id not in getattr(method, "exclude_document_ids", ())
+        }
+        report.summaries_skipped += len(active) - len(names)
+        if names:
+            todo[document_id] = names
+    return todo
+
+
+def _stored_texts(store: Store, document_ids: list[int]):
+    for document_id in document_ids:
+        yield store.db.execute("select text from documents where id = ?", [document_id]).fetchone()[0]
+
+
+def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
+    """Pass 2: fit archive statistics, then compute and store what is missing."""
+    todo = _pending(store, document_ids, active, report)
+    if not todo:
+        progress.message("nothing to summarize: every summary is already stored")
+        return
+    for method in active:
+        method.fit(_stored_texts(store, document_ids))
+    # Methods that generate in batches (seq2seq) run in this process, after the others.
+    batched = [m for m in active if hasattr(m, "summarize_many")]
+    per_document = [m for m in active if not hasattr(m, "summarize_many")]
+    per_document_names = {m.name for m in per_document}
+    progress.start(len(todo), "documents summarized")
+
+    def finished(document_id: int, names: set[str]) -> None:
+        todo[document_id] -= names
+        if not todo[document_id]:
+            del todo[document_id]
+            report.documents_summarized += 1
+            progress.advance()
+
+    jobs = (
+        (document_id, stored_document(store.db, document_id), sorted(names & per_document_names))
+        for document_id, names in list(todo.items())
+        if names & per_document_names
+    )
+    with make_executor(per_document, workers=workers, scheduler=scheduler) as executor:
+        for document_id, document, outcomes in executor.map_documents(jobs, stop):
+            _store_outcomes(store, run_id, document_id, document, outcomes, report, progress)
+            finished(document_id, {name for name, _ in outcomes})
+    for method in batched:
+        wanted = [d for d, names in todo.items() if method.name in names]
+        size = getattr(method, "batch_documents", 16)
+        for start in range(0, len(wanted), size):
+            if stop.reason():
+                break
+            chunk = wanted[start : start + size]
+            loaded = [stored_document(store.db, document_id) for document_id in chunk]
+            for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
+                _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
+                finished(document_id, {method.name})
+    progress.close()
+    report.documents_remaining = len(todo)
+
+
+def _store_outcomes(store, run_id, document_id, document, outcomes, report, progress) -> None:
+    """One transaction for all of a document's new summaries (and failures)."""
+    with store.transaction():
+        for method_name, outcome in outcomes:
+            if isinstance(outcome, Exception):
+                reason = f"{method_name} failed: {outcome}"
+                store.record_problem(run_id, document.record_key, "error", reason)
+                report.failed_summaries.append(f"{document.record_key}: {reason}")
+                progress.error(f"{document.record_key}: {reason}")
+                continue
+            store.add_summary(document_id, run_id, outcome)
+            report.summaries_added += 1
