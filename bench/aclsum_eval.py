@@ -18,7 +18,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from store.writes import Store
+from store.runs import recorded_run
 from summarize.evaluation.compare import BudgetGroup, Comparison, compare
 from summarize.evaluation.scoring import score
 from summarize.reading.datasets import load_aclsum
@@ -66,12 +66,10 @@ def run(db_path: str, split: str | None, limit: int | None, resamples: int, seed
     timings = {}
     started = time.perf_counter()
     documents = load_aclsum(split, limit)
-    store = Store(db_path)
-    run_id = store.begin_run("bench", {"dataset": "ACLSum", "split": split or "all", "limit": limit})
-    for document in documents:
-        store.add_document(document, split_document(document), run_id)
-    store.finish_run(run_id, "completed", {"documents": len(documents)})
-    store.close()
+    with recorded_run(db_path, "bench", {"dataset": "ACLSum", "split": split or "all", "limit": limit}) as recording:
+        for document in documents:
+            recording.store.add_document(document, split_document(document), recording.run_id)
+        recording.counts = {"documents": len(documents)}
     timings["load, split and store"] = time.perf_counter() - started
     started = time.perf_counter()
     score(db_path, budget="reference", methods=METHODS, progress=None)

@@ -21,7 +21,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from store.writes import Store
+from store.runs import recorded_run
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.evaluation.compare import compare
 from summarize.methods.learned.house_style import MODELS, HouseStyleSummarizer
@@ -74,16 +74,14 @@ def markdown_tables(systems: dict, folds: int, resamples: int, seed: int) -> str
 def run(db_path: str, folds: int, model: str, resamples: int, seed: int) -> str:
     timings = {}
     started = time.perf_counter()
-    store = Store(db_path)
-    run_id = store.begin_run("bench", {"dataset": "ACLSum", "folds": folds, "model": model})
-    if not store.db.execute("select count(*) from documents").fetchone()[0]:
-        for document in load_aclsum():
-            store.add_document(document, split_document(document), run_id)
-    timings["load, split and store"] = time.perf_counter() - started
-    started = time.perf_counter()
-    report = train_in_store(store, run_id, HouseStyleSummarizer(model=model, seed=seed), folds)
-    store.finish_run(run_id, "completed", report.as_dict())
-    store.close()
+    with recorded_run(db_path, "bench", {"dataset": "ACLSum", "folds": folds, "model": model}) as run:
+        if not run.store.documents.count():
+            for document in load_aclsum():
+                run.store.add_document(document, split_document(document), run.run_id)
+        timings["load, split and store"] = time.perf_counter() - started
+        started = time.perf_counter()
+        report = train_in_store(run.store, run.run_id, HouseStyleSummarizer(model=model, seed=seed), folds)
+        run.counts = report.as_dict()
     timings["cross-validate, summarize at matched budget, score, train"] = time.perf_counter() - started
     started = time.perf_counter()
     comparison = compare(db_path, budget="reference", resamples=resamples, seed=seed)

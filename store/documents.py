@@ -3,56 +3,120 @@
 from __future__ import annotations
 
 import json
+from collections.abc import Iterable, Iterator
+from dataclasses import dataclass
 
 import sqlite_utils
 
 from store.records import Document, Segmentation, Span
+from store.references import References
 
 
-def stored_segmentation(db: sqlite_utils.Database, document_id: int) -> Segmentation:
-    """The sentence spans stored for a document. Paragraph spans are not stored; each is
-    rebuilt as the stretch from its first sentence to its last."""
-    rows = db.execute(
-        "select start, \"end\", paragraph, is_heading from document_sentences "
-        "where document_id = ? order by position",
-        [document_id],
-    ).fetchall()
-    paragraph_numbers = sorted({row[2] for row in rows})
-    renumbered = {number: index for index, number in enumerate(paragraph_numbers)}
-    bounds: dict[int, list[int]] = {}
-    for start, end, paragraph, _ in rows:
-        low, high = bounds.get(paragraph, (start, end))
-        bounds[paragraph] = [min(low, start), max(high, end)]
-    return Segmentation(
-        paragraphs=tuple(Span(*bounds[number]) for number in paragraph_numbers),
-        sentences=tuple(Span(row[0], row[1]) for row in rows),
-        sentence_paragraph=tuple(renumbered[row[2]] for row in rows),
-        sentence_is_heading=tuple(bool(row[3]) for row in rows),
-    )
+@dataclass(frozen=True)
+class StoredVersion:
+    """One stored row of a document: its id, record key and status."""
+
+    id: int
+    record_key: str
+    status: str
 
 
-def stored_document(db: sqlite_utils.Database, document_id: int) -> tuple[Document, Segmentation]:
-    """A stored document as the record the methods take, with its reference summary."""
-    row = db["documents"].get(document_id)
-    reference = db.execute(
-        "select text, source from reference_summaries where document_id = ?", [document_id]
-    ).fetchone()
-    document = Document(
-        record_key=row["record_key"],
-        path=row["path"],
-        text=row["text"],
-        format=row["format"],
-        sha256=row["sha256"],
-        size=row["size"],
-        title=row["title"],
-        date=row["date"],
-        encoding=row["encoding"],
-        reference_summary=reference[0] if reference else None,
-        reference_source=reference[1] if reference else None,
-        metadata=json.loads(row["metadata"]) if row["metadata"] else {},
-    )
-    segmentation = stored_segmentation(db, document_id)
-    document.headings = [
-        span for span, heading in zip(segmentation.sentences, segmentation.sentence_is_heading) if heading
-    ]
-    return document, segmentation
+@dataclass(frozen=True)
+class DocumentBrief:
+    """What a comparison or a report shows of a document."""
+
+    id: int
+    title: str | None
+    record_key: str
+    text: str
+    reference: str | None
+
+
+class DocumentReads:
+    """Reads of the stored documents."""
+
+    def __init__(self, db: sqlite_utils.Database, references: References):
+        self.db = db
+        self.references = references
+
+    def segmentation(self, document_id: int) -> Segmentation:
+        """The sentence spans stored for a document. Paragraph spans are not stored;
+        each is rebuilt as the stretch from its first sentence to its last."""
+        rows = self.db.execute(
+            "select start, \"end\", paragraph, is_heading from document_sentences "
+            "where document_id = ? order by position",
+            [document_id],
+        ).fetchall()
+        paragraph_numbers = sorted({row[2] for row in rows})
+        renumbered = {number: index for index, number in enumerate(paragraph_numbers)}
+        bounds: dict[int, list[int]] = {}
+        for start, end, paragraph, _ in rows:
+            low, high = bounds.get(paragraph, (start, end))
+            bounds[paragraph] = [min(low, start), max(high, end)]
+        return Segmentation(
+            paragraphs=tuple(Span(*bounds[number]) for number in paragraph_numbers),
+            sentences=tuple(Span(row[0], row[1]) for row in rows),
+            sentence_paragraph=tuple(renumbered[row[2]] for row in rows),
+            sentence_is_heading=tuple(bool(row[3]) for row in rows),
+        )
+
+    def load(self, document_id: int) -> tuple[Document, Segmentation]:
+        """A stored document as the record the methods take, with its reference summary."""
+        row = self.db["documents"].get(document_id)
+        reference = self.references.of(document_id)
+        document = Document(
+            record_key=row["record_key"],
+            path=row["path"],
+            text=row["text"],
+            format=row["format"],
+            sha256=row["sha256"],
+            size=row["size"],
+            title=row["title"],
+            date=row["date"],
+            encoding=row["encoding"],
+            reference_summary=reference.text if reference else None,
+            reference_source=reference.source if reference else None,
+            metadata=json.loads(row["metadata"]) if row["metadata"] else {},
+        )
+        segmentation = self.segmentation(document_id)
+        document.headings = [
+            span for span, heading in zip(segmentation.sentences, segmentation.sentence_is_heading) if heading
+        ]
+        return document, segmentation
+
+    def text(self, document_id: int) -> str:
+        return self.db.execute("select text from documents where id = ?", [document_id]).fetchone()[0]
+
+    def texts(self, document_ids: Iterable[int]) -> Iterator[str]:
+        """The texts of the given documents, one at a time (a large archive is never
+        held in memory at once)."""
+        for document_id in document_ids:
+            yield self.text(document_id)
+
+    def active_texts(self) -> list[str]:
+        """Texts of every active document: what archive-wide statistics are fitted on."""
+        return [row[0] for row in self.db.execute("select text from documents where status = 'active' order by id")]
+
+    def active(self) -> list[StoredVersion]:
+        """Every active document."""
+        return [
+            StoredVersion(*row)
+            for row in self.db.execute("select id, record_key, status from documents where status = 'active'")
+        ]
+
+    def count(self) -> int:
+        return self.db.execute("select count(*) from documents").fetchone()[0]
+
+    def briefs(self, document_ids: list[int]) -> dict[int, DocumentBrief]:
+        """Title, record key, text and reference of the given documents, by id."""
+        references = self.references.of_ids(document_ids)
+        found: dict[int, DocumentBrief] = {}
+        for start in range(0, len(document_ids), 500):
+            chunk = document_ids[start : start + 500]
+            marks = ",".join("?" for _ in chunk)
+            for row in self.db.execute(
+                f"select id, title, record_key, text from documents where id in ({marks})", chunk
+            ):
+                reference = references.get(row[0])
+                found[row[0]] = DocumentBrief(*row, reference=reference.text if reference else None)
+        return found

@@ -20,6 +20,9 @@ Full-text search (FTS5) covers document titles and summary texts.
 
 from __future__ import annotations
 
+import sqlite3
+from pathlib import Path
+
 import sqlite_utils
 
 SCHEMA_VERSION = 2
@@ -150,8 +153,11 @@ def _create_v2(db: sqlite_utils.Database) -> None:
 MIGRATIONS = {1: _create_v1, 2: _create_v2}
 
 
-def open_database(path: str) -> sqlite_utils.Database:
-    """Open (creating if needed) a store and bring its schema up to date."""
+def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
+    """Open (creating if needed) a store and bring its schema up to date; or, with
+    ``read_only``, open an existing store as it is, for reading only."""
+    if read_only:
+        return _open_read_only(path)
     db = sqlite_utils.Database(path)
     db.execute("PRAGMA foreign_keys = ON")
     db.execute("PRAGMA busy_timeout = 30000")
@@ -172,4 +178,19 @@ def open_database(path: str) -> sqlite_utils.Database:
             for step in range(version + 1, SCHEMA_VERSION + 1):
                 MIGRATIONS[step](db)
             db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+    return db
+
+
+def _open_read_only(path: str) -> sqlite_utils.Database:
+    """SQLite's own read-only mode: nothing is created, migrated or written."""
+    connection = sqlite3.connect(f"{Path(path).absolute().as_uri()}?mode=ro", uri=True)
+    db = sqlite_utils.Database(connection)
+    db.execute("PRAGMA busy_timeout = 30000")
+    version = db.execute("PRAGMA user_version").fetchone()[0]
+    if version != SCHEMA_VERSION:
+        db.close()
+        raise RuntimeError(
+            f"{path}: store schema version {version}, this program reads version {SCHEMA_VERSION}"
+            + (" (open it once for writing to upgrade it)" if version < SCHEMA_VERSION else "")
+        )
     return db

@@ -4,74 +4,26 @@ A rerun finds what is already there by natural keys (record key + content hash f
 documents; document + method + parameter hash for summaries) and adds only what is
 missing, so an interrupted run loses at most the document in flight.
 
-Every write goes through :meth:`Store.transaction`, which is sqlite-utils'
-``atomic()``: an explicit BEGIN/COMMIT, with savepoints when nested. (A plain
-``with db.conn:`` is not enough: sqlite-utils commits each write made outside an
-explicit transaction on its own, so a kill between two of them would leave, say, a
-document without its sentences.)
+Every write goes through :meth:`Store.transaction <store.store.Store.transaction>`.
 """
 
 from __future__ import annotations
 
 import json
-import os
-import platform
-import socket
-from contextlib import contextmanager
-from datetime import UTC, datetime
-from importlib import metadata
 
 import sqlite_utils
 
 from store.records import Document, Segmentation, Summary
-from store.schema import open_database
-
-VERSIONED_PACKAGES = (
-    "archive-summarizer",
-    "pysbd",
-    "scikit-learn",
-    "numpy",
-    "scipy",
-    "rouge-score",
-    "sqlite-utils",
-    "transformers",
-    "torch",
-    "tokenizers",
-    "pypdf",
-    "python-docx",
-    "beautifulsoup4",
-)
+from store.references import References
+from store.runs import now
 
 
-def now() -> str:
-    return datetime.now(UTC).isoformat(timespec="seconds")
+class StoreWrites:
+    """The writes of :class:`~store.store.Store` (which supplies ``db``,
+    ``references`` and ``transaction``)."""
 
-
-def library_versions() -> dict:
-    versions = {"python": platform.python_version()}
-    for name in VERSIONED_PACKAGES:
-        try:
-            versions[name] = metadata.version(name)
-        except metadata.PackageNotFoundError:
-            versions[name] = None
-    return versions
-
-
-class Store:
-    """A summary store in one SQLite file."""
-
-    def __init__(self, path: str):
-        self.path = path
-        self.db: sqlite_utils.Database = open_database(path)
-
-    def close(self) -> None:
-        self.db.close()
-
-    @contextmanager
-    def transaction(self):
-        """All writes inside are committed together or not at all; nests."""
-        with self.db.atomic():
-            yield
+    db: sqlite_utils.Database
+    references: References
 
     def _insert_row(self, table: str, row: dict) -> int:
         """Insert one row of plain values; returns its rowid. (Plain SQL for the rows
@@ -80,40 +32,6 @@ class Store:
         marks = ", ".join("?" for _ in row)
         cursor = self.db.conn.execute(f'insert into "{table}" ({columns}) values ({marks})', list(row.values()))
         return cursor.lastrowid
-
-    # runs -------------------------------------------------------------------------
-
-    def begin_run(self, command: str, config: dict) -> int:
-        with self.transaction():
-            return self.db["runs"].insert(
-                {
-                    "started": now(),
-                    "status": "running",
-                    "command": command,
-                    "config": json.dumps(config, sort_keys=True, default=str),
-                    "versions": json.dumps(library_versions(), sort_keys=True),
-                    "host": socket.gethostname(),
-                    "pid": os.getpid(),
-                }
-            ).last_pk
-
-    def finish_run(self, run_id: int, status: str, counts: dict) -> None:
-        with self.transaction():
-            self.db["runs"].update(
-                run_id, {"finished": now(), "status": status, "counts": json.dumps(counts, sort_keys=True)}
-            )
-
-    def close_interrupted_runs(self) -> int:
-        """Runs still marked ``running`` were killed (the caller holds the store's
-        writer lock, so none is alive): mark them ``interrupted``; returns how many."""
-        with self.transaction():
-            return self.db.execute(
-                "update runs set status = 'interrupted' where status = 'running'"
-            ).rowcount
-
-    def update_run_config(self, run_id: int, config: dict) -> None:
-        with self.transaction():
-            self.db["runs"].update(run_id, {"config": json.dumps(config, sort_keys=True, default=str)})
 
     # documents --------------------------------------------------------------------
 
@@ -188,9 +106,7 @@ class Store:
                 )
                 # Identical content: a reference found under the second name serves the
                 # first, which is the one summarized and scored.
-                if twin and not self.db.execute(
-                    "select 1 from reference_summaries where document_id = ?", [twin[0]]
-                ).fetchone():
+                if twin and not self.references.exists(twin[0]):
                     self.db["reference_summaries"].insert(
                         {
                             "document_id": twin[0],
@@ -211,12 +127,6 @@ class Store:
         """The file behind a stored document is gone: keep everything, say so."""
         with self.transaction():
             self.db["documents"].update(document_id, {"status": "missing"})
-
-    def record_problem(self, run_id: int, path: str, kind: str, reason: str) -> None:
-        with self.transaction():
-            self.db["ingest_problems"].insert(
-                {"run_id": run_id, "path": path, "kind": kind, "reason": reason, "created": now()}
-            )
 
     # summaries --------------------------------------------------------------------
 

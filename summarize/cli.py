@@ -9,15 +9,14 @@ from __future__ import annotations
 import json
 import sys
 import textwrap
+from dataclasses import asdict
 from pathlib import Path
 
 import click
 
 from store.lock import StoreLocked
 from store.queries import DocumentNotFound
-from store.queries import find as find_documents
-from store.queries import show as show_document
-from store.schema import open_database
+from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.seq2seq.models import ModelLoadError
 from summarize.output.caution import CAUTION
@@ -39,7 +38,7 @@ def _fail(message: str) -> None:
 def _open_existing(db_path: str):
     if not Path(db_path).exists():
         _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
-    return open_database(db_path)
+    return Store(db_path)
 
 
 def _budget(_ctx, _param, value: str) -> Budget:
@@ -242,18 +241,17 @@ def _run_summary(run_id: int, counts: dict) -> str:
 @click.option("--json", "as_json", is_flag=True, help="Print hits as JSON.")
 def find(query, db_path, method, limit, as_json):
     """Search titles, paths and summaries (full-text, stemmed)."""
-    db = _open_existing(db_path)
-    hits = find_documents(db, query, limit=limit, method=method)
+    hits = _open_existing(db_path).queries.find(query, limit=limit, method=method)
     if as_json:
-        click.echo(json.dumps(hits, indent=2, ensure_ascii=False))
+        click.echo(json.dumps([asdict(hit) for hit in hits], indent=2, ensure_ascii=False))
         return
     if not hits:
         click.echo(f"no matches for {query!r}", err=True)
         return
     for hit in hits:
-        click.echo(f"#{hit['document_id']}  {hit['title'] or '(untitled)'}  [{hit['record_key']}]" + (f"  {hit['date']}" if hit["date"] else ""))
-        for match in hit["matches"][:3]:
-            click.echo(f"    {match['method'] or 'title'}: {match['snippet']}")
+        click.echo(f"#{hit.document_id}  {hit.title or '(untitled)'}  [{hit.record_key}]" + (f"  {hit.date}" if hit.date else ""))
+        for match in hit.matches[:3]:
+            click.echo(f"    {match.method or 'title'}: {match.snippet}")
 
 
 def _print_document(record: dict, highlight: bool) -> None:
@@ -304,9 +302,9 @@ def _print_document(record: dict, highlight: bool) -> None:
 def show(document, db_path, method, highlight, as_json):
     """Show one DOCUMENT (id, record key or path): metadata, reference, summaries with
     their source spans, flags and scores."""
-    db = _open_existing(db_path)
+    store = _open_existing(db_path)
     try:
-        record = show_document(db, document, method=method)
+        record = store.queries.show(document, method=method)
     except DocumentNotFound as error:
         _fail(str(error))
     if as_json:
@@ -322,9 +320,9 @@ def show(document, db_path, method, highlight, as_json):
 @click.option("--methods", default=None, help="Comma-separated methods to export (default: all).")
 def export(db_path, fmt, out_path, methods):
     """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file."""
-    db = _open_existing(db_path)
+    store = _open_existing(db_path)
     chosen = [m.strip() for m in methods.split(",")] if methods else None
-    count = export_summaries(db, fmt, out_path, methods=chosen)
+    count = export_summaries(store, fmt, out_path, methods=chosen)
     click.echo(f"wrote {count} summaries to {out_path}")
 
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import pytest
 
-from store.writes import Store
+from store.store import Store
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.evaluation.compare import compare
 from summarize.evaluation.rouge import METRICS
@@ -28,7 +28,7 @@ pytestmark = pytest.mark.slow
 def comparison(tmp_path_factory):
     db = str(tmp_path_factory.mktemp("aclsum") / "aclsum.sqlite")
     store = Store(db)
-    run_id = store.begin_run("test", {"dataset": "ACLSum test, first 60"})
+    run_id = store.runs.begin("test", {"dataset": "ACLSum test, first 60"})
     for document in load_aclsum("test", limit=60):
         store.add_document(document, split_document(document), run_id)
     store.close()

@@ -14,7 +14,7 @@ import pytest
 from click.testing import CliRunner
 
 from store.records import SourceLink, Span, Summary, SummarySentence
-from store.writes import Store
+from store.store import Store
 from summarize.cli import main
 from summarize.evaluation.matched import BUDGET_RULE_KEY
 from summarize.methods.budget import Budget, count_words
@@ -172,7 +172,7 @@ def test_summaries_with_their_own_length_are_reported_apart(tmp_path):
     run_archive([folder], str(db), methods=["lead"])
     # A generated summary whose length the model settled, as the seq2seq method stores it.
     store = Store(str(db))
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     for document_id, text in rows(db, "select id, text from documents"):
         sentence = SummarySentence("Supply was cut and later restored.", 0.0, (SourceLink(Span(0, len(text)), 0.4),))
         params = {"model": "invented", "generation": {"min_new_tokens": 8, "max_new_tokens": 60}}

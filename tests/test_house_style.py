@@ -14,9 +14,8 @@ import random
 
 import numpy as np
 
-from store.learned_models import latest_learned_model, save_learned_model
 from store.records import Document
-from store.writes import Store
+from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.learned.held_out import CrossValidation
 from summarize.methods.learned.house_style import HouseStyleSummarizer
@@ -203,12 +202,12 @@ def test_stored_model_gives_the_same_summaries_from_a_new_store_object(tmp_path)
     trained = HouseStyleSummarizer(budget=Budget(words=30)).fit(data[:22])
     db = str(tmp_path / "models.sqlite")
     store = Store(db)
-    run_id = store.begin_run("test", {})
-    model_id = save_learned_model(store.db, trained, run_id, [3, 1, 2], FEATURE_NAMES, {"note": "test"})
+    run_id = store.runs.begin("test", {})
+    model_id = store.models.save(trained, run_id, [3, 1, 2], FEATURE_NAMES, {"note": "test"})
     store.close()
 
     reopened = Store(db)
-    loaded = latest_learned_model(reopened.db, "house-style")
+    loaded = reopened.models.latest("house-style")
     reopened.close()
     assert loaded.id == model_id and loaded.training_documents == [1, 2, 3]
     assert loaded.features == list(FEATURE_NAMES) and loaded.metrics == {"note": "test"}
@@ -241,7 +240,7 @@ def test_too_few_references_fall_back_to_the_best_fixed_method(tmp_path, capsys)
     store = Store(db)
     methods = {row[0] for row in store.db.execute("select distinct method from summaries where params not like '%budget_rule%'")}
     assert methods == {decision["method"]}
-    assert latest_learned_model(store.db, "house-style") is None
+    assert store.models.latest("house-style") is None
     store.close()
 
 
@@ -278,7 +277,7 @@ def test_auto_records_its_choice_and_applies_it_to_the_rest(tmp_path):
     held_out = store.db.execute(
         "select count(*) from summaries where method = 'house-style' and params like '%5-fold held-out%'"
     ).fetchone()[0]
-    model = latest_learned_model(store.db, "house-style")
+    model = store.models.latest("house-style")
     store.close()
     # Applied to the six reports without a reference; the 24 others have held-out summaries.
     assert sorted(key.rsplit("/", 1)[1] for key, _ in in_run) == [f"report_{n:03d}.txt" for n in range(24, 30)]
@@ -291,8 +290,8 @@ def test_training_again_reuses_the_stored_model(tmp_path):
     db = str(tmp_path / "store.sqlite")
     run_archive([tmp_path / "archive"], db, methods=["lead"], budget=Budget(sentences=2))
     store = Store(db)
-    first = train_in_store(store, store.begin_run("train", {}))
-    second = train_in_store(store, store.begin_run("train", {}))
+    first = train_in_store(store, store.runs.begin("train", {}))
+    second = train_in_store(store, store.runs.begin("train", {}))
     store.close()
     assert first.held_out_added == 22 and not first.reused_model
     assert second.held_out_added == 0 and second.reused_model and second.model_id == first.model_id

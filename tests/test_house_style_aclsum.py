@@ -18,7 +18,7 @@ import json
 
 import pytest
 
-from store.writes import Store
+from store.store import Store
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.evaluation.compare import compare
 from summarize.methods.learned.training import train_in_store
@@ -33,7 +33,7 @@ PAPERS = 100
 def trained(tmp_path_factory):
     db = str(tmp_path_factory.mktemp("aclsum") / "house_style.sqlite")
     store = Store(db)
-    run_id = store.begin_run("test", {"dataset": "ACLSum train split"})
+    run_id = store.runs.begin("test", {"dataset": "ACLSum train split"})
     for document in load_aclsum("train"):
         store.add_document(document, split_document(document), run_id)
     report = train_in_store(store, run_id, folds=5)

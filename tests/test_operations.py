@@ -32,7 +32,7 @@ from operations_support import (
 )
 
 from store.records import Document, Segmentation, SourceLink, Span, Summary, SummarySentence
-from store.writes import Store
+from store.store import Store
 from summarize.cli import main
 from summarize.runs.progress import Progress
 from summarize.runs.runner import run_archive
@@ -298,7 +298,7 @@ def _one_document() -> tuple[Document, Segmentation]:
 
 def test_a_document_is_written_whole_or_not_at_all(tmp_path):
     store = Store(str(tmp_path / "atomic.sqlite"))
-    run_id = store.begin_run("run", {})
+    run_id = store.runs.begin("run", {})
     document, segmentation = _one_document()
     _fail_inserts_into(store, "document_sentences")
     with pytest.raises(sqlite3.IntegrityError, match="disk went away"):
@@ -308,7 +308,7 @@ def test_a_document_is_written_whole_or_not_at_all(tmp_path):
 
 def test_a_summary_is_written_whole_or_not_at_all(tmp_path):
     store = Store(str(tmp_path / "atomic.sqlite"))
-    run_id = store.begin_run("run", {})
+    run_id = store.runs.begin("run", {})
     document, segmentation = _one_document()
     document_id, added, _ = store.add_document(document, segmentation, run_id)
     summary = Summary(method="lead", params={}, sentences=[

@@ -11,7 +11,7 @@ import pytest
 from rouge_score import rouge_scorer
 
 from store.records import Document, SourceLink, Span, Summary, SummarySentence
-from store.writes import Store
+from store.store import Store
 from summarize.evaluation.scoring import score_store
 from summarize.reading.split import sentence_spans, split_document
 
@@ -29,7 +29,7 @@ def random_sentence(rng: random.Random) -> str:
 
 def build_store(path, rng: random.Random, documents: int = 12) -> None:
     store = Store(str(path))
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     for number in range(documents):
         text = " ".join(random_sentence(rng) for _ in range(rng.randint(3, 12)))
         reference = " ".join(random_sentence(rng) for _ in range(rng.randint(1, 4)))
@@ -83,7 +83,7 @@ def test_rerun_scores_only_new_summaries(tmp_path):
     first = Store(str(db)).db.execute("select summary_id, metric, created from scores").fetchall()
     assert score_store(str(db)) == 0
     store = Store(str(db))
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     document_id = store.db.execute("select min(id) from documents").fetchone()[0]
     span = Span(0, 5)
     store.add_summary(document_id, run_id, Summary("late", {}, [SummarySentence("late", 1.0, (SourceLink(span, 1.0),))]))
@@ -96,7 +96,7 @@ def test_rerun_scores_only_new_summaries(tmp_path):
 def test_documents_without_reference_are_not_scored(tmp_path):
     db = tmp_path / "noref.sqlite"
     store = Store(str(db))
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     text = "The night shift reported a leak. The crew repaired the main."
     document = Document("x", "x.txt", text, "txt", "f" * 64, len(text))
     segmentation = split_document(document)

@@ -16,8 +16,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from store.evaluation import documents_by_id, scored_summaries, summary_sentences
-from store.schema import open_database
+from store.evaluation import ScoredSummary
+from store.store import Store
 from summarize.evaluation.bootstrap import Difference, Interval, PercentileBootstrap
 from summarize.evaluation.fragments import IndexedSource, extractiveness
 from summarize.evaluation.matched import MatchedBudget, budget_label, is_matched
@@ -129,23 +129,20 @@ def compare(
         raise ValueError(f"measure must be one of {', '.join(MEASURES)}, got {measure!r}")
     wanted = None if budget in (None, "all") else MatchedBudget.parse(budget).label()
     bootstrap = PercentileBootstrap(resamples=resamples, confidence=confidence, seed=seed)
-    db = open_database(db_path)
-    try:
-        summaries = scored_summaries(db)
-        sentences = summary_sentences(db, [s["summary_id"] for s in summaries])
-        documents = documents_by_id(db, sorted({s["document_id"] for s in summaries}))
-    finally:
-        db.close()
+    with Store(db_path) as store:
+        summaries = store.evaluation.scored()
+        sentences = store.evaluation.sentences([s.summary_id for s in summaries])
+        documents = store.documents.briefs(sorted({s.document_id for s in summaries}))
 
-    grouped: dict[str, dict[tuple[str, str], list[dict]]] = defaultdict(lambda: defaultdict(list))
+    grouped: dict[str, dict[tuple[str, str], list[ScoredSummary]]] = defaultdict(lambda: defaultdict(list))
     matched_labels = set()
     for summary in summaries:
-        label = budget_label(summary["params"])
-        if is_matched(summary["params"]):
+        label = budget_label(summary.params)
+        if is_matched(summary.params):
             matched_labels.add(label)
         if wanted is not None and label != wanted:
             continue
-        key = (summary["method"], _settings_key(summary["method"], summary["params"]))
+        key = (summary.method, _settings_key(summary.method, summary.params))
         grouped[label][key].append(summary)
 
     sources: dict[int, IndexedSource] = {}
@@ -165,7 +162,7 @@ def compare(
                     result.versus_baseline = _paired(result, baseline, bootstrap)
         groups.append(BudgetGroup(budget=label, matched=label in matched_labels, systems=sorted(results, key=_system_order)))
     groups.sort(key=lambda g: _budget_order(g.budget, g.matched))
-    reference_words = {i: count_words(d["reference"] or "") for i, d in documents.items()}
+    reference_words = {i: count_words(d.reference or "") for i, d in documents.items()}
     return Comparison(measure, confidence, resamples, seed, groups, reference_words)
 
 
@@ -173,20 +170,20 @@ def _system_result(name, method, members, sentences, documents, sources, measure
     per_document = {}
     fragments = defaultdict(list)
     for summary in members:
-        values = {metric: summary["scores"][metric][measure] for metric in METRICS if metric in summary["scores"]}
-        per_document[summary["document_id"]] = {
-            "summary_id": summary["summary_id"],
-            "words": count_words(summary["text"] or ""),
+        values = {metric: summary.scores[metric][measure] for metric in METRICS if metric in summary.scores}
+        per_document[summary.document_id] = {
+            "summary_id": summary.summary_id,
+            "words": count_words(summary.text or ""),
             **values,
         }
-        document_id = summary["document_id"]
+        document_id = summary.document_id
         if document_id not in sources:
-            sources[document_id] = IndexedSource(documents[document_id]["text"])
-        found = extractiveness(sources[document_id], sentences.get(summary["summary_id"], []))
+            sources[document_id] = IndexedSource(documents[document_id].text)
+        found = extractiveness(sources[document_id], sentences.get(summary.summary_id, []))
         for field_name in EXTRACTIVENESS_FIELDS:
             fragments[field_name].append(getattr(found, field_name))
     metrics = [m for m in METRICS if all(m in row for row in per_document.values())]
-    params = {k: v for k, v in members[0]["params"].items() if k != "budget"}
+    params = {k: v for k, v in members[0].params.items() if k != "budget"}
     return SystemResult(
         name=name,
         method=method,

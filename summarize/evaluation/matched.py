@@ -17,10 +17,8 @@ import copy
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
-from store.documents import stored_document
-from store.evaluation import active_texts, referenced_document_ids, stored_summary_budgets
 from store.records import param_hash
-from store.writes import Store
+from store.store import Store
 from summarize.evaluation.oracle import OracleSummarizer
 from summarize.methods.baselines import RandomSummarizer
 from summarize.methods.budget import Budget, count_words
@@ -107,8 +105,8 @@ def add_matched_summaries(
         raise ValueError(f"unknown methods {unknown} (known: {', '.join(sorted(SUMMARIZERS))})")
     prototypes = [SUMMARIZERS[name]() for name in methods]
     missing = []
-    for document_id in referenced_document_ids(store.db):
-        document, segmentation = stored_document(store.db, document_id)
+    for document_id in store.references.referenced_document_ids():
+        document, segmentation = store.documents.load(document_id)
         document_budget = budget.budget_for(document.reference_summary)
         todo = []
         for prototype in prototypes:
@@ -119,7 +117,7 @@ def add_matched_summaries(
             missing.append((document_id, document, segmentation, document_budget, todo))
     if not missing:
         return 0
-    texts = active_texts(store.db)
+    texts = store.documents.active_texts()
     fitted = {id(prototype) for _, _, _, _, todo in missing for prototype in todo}
     for prototype in prototypes:
         if id(prototype) in fitted:
@@ -141,7 +139,7 @@ def add_oracle_at_stored_budgets(
     """Add an oracle summary beside every stored budget of a document with a
     reference (sentence, word or ratio budgets), so every budget has its upper bound."""
     pairs = set()
-    for document_id, params in stored_summary_budgets(store.db, exclude_methods=("oracle",)):
+    for document_id, params in store.evaluation.stored_summary_budgets(exclude_methods=("oracle",)):
         if is_matched(params) or "budget" not in params:
             continue
         try:
@@ -152,7 +150,7 @@ def add_oracle_at_stored_budgets(
         if not store.has_summary(document_id, oracle.name, param_hash(oracle.name, oracle.get_params())):
             pairs.add((document_id, budget))
     for number, (document_id, budget) in enumerate(sorted(pairs, key=lambda p: (p[0], str(p[1]))), 1):
-        document, segmentation = stored_document(store.db, document_id)
+        document, segmentation = store.documents.load(document_id)
         store.add_summary(document_id, run_id, OracleSummarizer(budget=budget).summarize(document, segmentation))
         if progress and (number % 25 == 0 or number == len(pairs)):
             progress(f"oracle summaries at stored budgets: {number}/{len(pairs)}")

@@ -14,9 +14,9 @@ import time
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass
 
-from store.evaluation import unscored_summaries, write_scores
 from store.lock import StoreLock
-from store.writes import Store
+from store.runs import recorded_run
+from store.store import Store
 from summarize.evaluation.matched import (
     MATCHED_METHODS,
     MatchedBudget,
@@ -33,13 +33,13 @@ def _say(message: str) -> None:
 def score_unscored(store: Store, metric: RougeMetric, progress: Callable[[str], None] | None) -> int:
     """Score every stored summary that has a reference and no score yet, inside the
     caller's run (the caller holds the store's writer lock). Returns how many."""
-    pending = unscored_summaries(store.db)
+    pending = store.evaluation.unscored()
     references: dict[int, list[str]] = {}
     for number, item in enumerate(pending, 1):
-        if item["document_id"] not in references:
-            references[item["document_id"]] = reference_sentences(item["reference"])
-        values = metric.score(item["sentences"], references[item["document_id"]])
-        write_scores(store.db, item["summary_id"], values)
+        if item.document_id not in references:
+            references[item.document_id] = reference_sentences(item.reference)
+        values = metric.score(item.sentences, references[item.document_id])
+        store.evaluation.write_scores(item.summary_id, values)
         if progress and (number % 200 == 0 or number == len(pending)):
             progress(f"scored {number}/{len(pending)} summaries")
     return len(pending)
@@ -54,12 +54,8 @@ def score_store(
     """Score every stored summary whose document has a reference and that has no
     score yet; returns how many summaries were scored. Takes the store's writer lock
     (:class:`~store.lock.StoreLocked` when a run holds it)."""
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        store = Store(db_path)
-        try:
-            return score_unscored(store, metric or RougeMetric(), progress)
-        finally:
-            store.close()
+    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress), Store(db_path) as store:
+        return score_unscored(store, metric or RougeMetric(), progress)
 
 
 @dataclass
@@ -93,26 +89,14 @@ def score(
     budget = budget if isinstance(budget, MatchedBudget) else MatchedBudget.parse(budget)
     started = time.perf_counter()
     metric = RougeMetric()
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        return _score_locked(db_path, budget, methods, metric, progress, started)
-
-
-def _score_locked(db_path, budget, methods, metric, progress, started) -> ScoreReport:
-    store = Store(db_path)
-    run_id = store.begin_run(
-        "score",
-        {"budget": budget.label(), "methods": list(methods), "metric": asdict(metric)},
-    )
-    report = ScoreReport(run_id=run_id, budget=budget.label())
-    status = "failed"
-    try:
-        report.summaries_added = add_matched_summaries(store, run_id, budget, methods, progress)
-        report.oracles_added = add_oracle_at_stored_budgets(store, run_id, progress)
-        report.summaries_scored = score_unscored(store, metric, progress)
-        status = "completed"
-    finally:
-        report.seconds = time.perf_counter() - started
-        counts = {k: v for k, v in report.as_dict().items() if k not in ("run_id", "budget")}
-        store.finish_run(run_id, status, counts)
-        store.close()
+    config = {"budget": budget.label(), "methods": list(methods), "metric": asdict(metric)}
+    with recorded_run(db_path, "score", config, lock_wait_seconds, progress) as run:
+        report = ScoreReport(run_id=run.run_id, budget=budget.label())
+        try:
+            report.summaries_added = add_matched_summaries(run.store, run.run_id, budget, methods, progress)
+            report.oracles_added = add_oracle_at_stored_budgets(run.store, run.run_id, progress)
+            report.summaries_scored = score_unscored(run.store, metric, progress)
+        finally:
+            report.seconds = time.perf_counter() - started
+            run.counts = {k: v for k, v in report.as_dict().items() if k not in ("run_id", "budget")}
     return report

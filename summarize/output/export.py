@@ -10,11 +10,11 @@ from __future__ import annotations
 import csv
 import html
 import json
+from dataclasses import asdict
 from pathlib import Path
 
-import sqlite_utils
-
-from store.queries import export_rows
+from store.exports import ExportRow
+from store.store import Store
 from summarize.output.caution import CAUTION
 
 FORMATS = ("csv", "jsonl", "md", "html")
@@ -24,44 +24,44 @@ _CSV_COLUMNS = (
 )
 
 
-def _write_csv(rows: list[dict], out) -> None:
+def _write_csv(rows: list[ExportRow], out) -> None:
     writer = csv.DictWriter(out, fieldnames=[*_CSV_COLUMNS, "caution"])
     writer.writeheader()
     for row in rows:
-        record = {key: row[key] for key in _CSV_COLUMNS}
+        record = {key: getattr(row, key) for key in _CSV_COLUMNS}
         for key in ("source_spans", "rouge_f1"):
             record[key] = json.dumps(record[key])
-        record["flags"] = "; ".join(row["flags"])
+        record["flags"] = "; ".join(row.flags)
         record["caution"] = CAUTION
         writer.writerow(record)
 
 
-def _write_jsonl(rows: list[dict], out) -> None:
+def _write_jsonl(rows: list[ExportRow], out) -> None:
     for row in rows:
-        out.write(json.dumps(row | {"caution": CAUTION}, ensure_ascii=False) + "\n")
+        out.write(json.dumps(asdict(row) | {"caution": CAUTION}, ensure_ascii=False) + "\n")
 
 
 def _markdown_cell(value: str | None) -> str:
     return (value or "").replace("|", "\\|").replace("\n", " ")
 
 
-def _write_markdown(rows: list[dict], out) -> None:
+def _write_markdown(rows: list[ExportRow], out) -> None:
     out.write("# Stored summaries\n\n")
     out.write(f"> **Caution.** {CAUTION}\n\n")
     current = None
     for row in rows:
-        if row["document_id"] != current:
-            current = row["document_id"]
-            out.write(f"## {_markdown_cell(row['title'] or row['record_key'])}\n\n")
-            out.write(f"`{_markdown_cell(row['record_key'])}`" + (f" · {row['date']}" if row["date"] else "") + "\n\n")
-            if row["reference_summary"]:
-                out.write(f"*Reference ({_markdown_cell(row['reference_source'])}):* {_markdown_cell(row['reference_summary'])}\n\n")
-        scores = ", ".join(f"{m} {v:.3f}" for m, v in sorted(row["rouge_f1"].items()))
-        out.write(f"**{row['method']}**" + (f" (ROUGE F1: {scores})" if scores else "") + "\n\n")
-        for sentence in row["summary_sentences"]:
-            spans = ", ".join(f"{s['start']}–{s['end']}" for s in sentence["sources"])
-            out.write(f"- {_markdown_cell(sentence['text'])}" + (f" ⟨chars {spans}⟩" if spans else "") + "\n")
-        for flag in row["flags"]:
+        if row.document_id != current:
+            current = row.document_id
+            out.write(f"## {_markdown_cell(row.title or row.record_key)}\n\n")
+            out.write(f"`{_markdown_cell(row.record_key)}`" + (f" · {row.date}" if row.date else "") + "\n\n")
+            if row.reference_summary:
+                out.write(f"*Reference ({_markdown_cell(row.reference_source)}):* {_markdown_cell(row.reference_summary)}\n\n")
+        scores = ", ".join(f"{m} {v:.3f}" for m, v in sorted(row.rouge_f1.items()))
+        out.write(f"**{row.method}**" + (f" (ROUGE F1: {scores})" if scores else "") + "\n\n")
+        for sentence in row.summary_sentences:
+            spans = ", ".join(f"{s.start}–{s.end}" for s in sentence.sources)
+            out.write(f"- {_markdown_cell(sentence.text)}" + (f" ⟨chars {spans}⟩" if spans else "") + "\n")
+        for flag in row.flags:
             out.write(f"- ⚠ check: {_markdown_cell(flag)}\n")
         out.write("\n")
 
@@ -76,27 +76,27 @@ article{border-top:1px solid #ccc;padding:.5rem 0}
 """
 
 
-def _write_html(rows: list[dict], out) -> None:
+def _write_html(rows: list[ExportRow], out) -> None:
     e = html.escape
     out.write("<!doctype html><html lang='en'><head><meta charset='utf-8'>")
     out.write(f"<title>Stored summaries</title><style>{_HTML_STYLE}</style></head><body>")
     out.write(f"<h1>Stored summaries</h1><p class='caution'><strong>Caution.</strong> {e(CAUTION)}</p>")
     current = None
     for row in rows:
-        if row["document_id"] != current:
+        if row.document_id != current:
             if current is not None:
                 out.write("</article>")
-            current = row["document_id"]
-            out.write(f"<article><h2>{e(row['title'] or row['record_key'])}</h2>")
-            out.write(f"<p class='meta'>{e(row['record_key'])}{' · ' + e(row['date']) if row['date'] else ''}</p>")
-            if row["reference_summary"]:
-                out.write(f"<p class='ref'>Reference ({e(row['reference_source'] or '')}): {e(row['reference_summary'])}</p>")
-        out.write(f"<p class='method'>{e(row['method'])}</p><ol>")
-        for sentence in row["summary_sentences"]:
-            spans = ", ".join(f"{s['start']}–{s['end']}" for s in sentence["sources"])
-            out.write(f"<li>{e(sentence['text'])} <span class='span'>chars {e(spans)}</span></li>")
+            current = row.document_id
+            out.write(f"<article><h2>{e(row.title or row.record_key)}</h2>")
+            out.write(f"<p class='meta'>{e(row.record_key)}{' · ' + e(row.date) if row.date else ''}</p>")
+            if row.reference_summary:
+                out.write(f"<p class='ref'>Reference ({e(row.reference_source or '')}): {e(row.reference_summary)}</p>")
+        out.write(f"<p class='method'>{e(row.method)}</p><ol>")
+        for sentence in row.summary_sentences:
+            spans = ", ".join(f"{s.start}–{s.end}" for s in sentence.sources)
+            out.write(f"<li>{e(sentence.text)} <span class='span'>chars {e(spans)}</span></li>")
         out.write("</ol>")
-        for flag in row["flags"]:
+        for flag in row.flags:
             out.write(f"<p class='flag'>Check: {e(flag)}</p>")
     if current is not None:
         out.write("</article>")
@@ -106,12 +106,12 @@ def _write_html(rows: list[dict], out) -> None:
 _WRITERS = {"csv": _write_csv, "jsonl": _write_jsonl, "md": _write_markdown, "html": _write_html}
 
 
-def export(db: sqlite_utils.Database, format: str, out_path: str | Path, methods: list[str] | None = None) -> int:
+def export(store: Store, format: str, out_path: str | Path, methods: list[str] | None = None) -> int:
     """Write every stored summary (optionally only ``methods``) to ``out_path``;
     returns the number of summaries written."""
     if format not in _WRITERS:
         raise ValueError(f"unknown export format {format!r} (expected one of {', '.join(FORMATS)})")
-    rows = export_rows(db, methods)
+    rows = store.exports.rows(methods)
     with open(out_path, "w", encoding="utf-8", newline="") as out:
         _WRITERS[format](rows, out)
     return len(rows)

@@ -21,8 +21,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from store.evaluation import documents_by_id, summary_spans
-from store.schema import open_database
+from store.store import Store
 from summarize.evaluation.bootstrap import Interval
 from summarize.evaluation.compare import BudgetGroup, Comparison, SystemResult, compare
 from summarize.evaluation.rouge import METRIC_LABELS, METRICS
@@ -174,7 +173,7 @@ def _featured(group: BudgetGroup) -> SystemResult | None:
     return max(systems, key=lambda s: (np.mean([i.estimate for i in s.scores.values()]), s.name))
 
 
-def _examples(db, group: BudgetGroup, count: int) -> str:
+def _examples(store: Store, group: BudgetGroup, count: int) -> str:
     featured = _featured(group)
     if featured is None:
         return ""
@@ -186,7 +185,7 @@ def _examples(db, group: BudgetGroup, count: int) -> str:
     )
     best = ranked[:count]
     worst = [d for d in ranked[::-1][:count] if d not in best]
-    documents = documents_by_id(db, best + worst)
+    documents = store.documents.briefs(best + worst)
     parts = [
         f"<h2>Best- and worst-scored documents — {escape(featured.name)}, budget: {escape(group.budget)}</h2>",
         "<p class='small'>Ranked by the mean of the ROUGE values. Highlighted in the source: "
@@ -199,16 +198,16 @@ def _examples(db, group: BudgetGroup, count: int) -> str:
             document = documents[document_id]
             row = featured.per_document[document_id]
             values = ", ".join(f"{METRIC_LABELS[m]} {100 * row[m]:.1f}" for m in metrics)
-            picked = summary_spans(db, row["summary_id"])
+            picked = store.evaluation.spans(row["summary_id"])
             bound = []
             if oracle is not None and document_id in oracle.per_document:
-                bound = summary_spans(db, oracle.per_document[document_id]["summary_id"])
-            title = document["title"] or document["record_key"]
+                bound = store.evaluation.spans(oracle.per_document[document_id]["summary_id"])
+            title = document.title or document.record_key
             parts += [
                 f"<h3>{heading}: {escape(title)}</h3>",
-                f"<p class='small'>{escape(document['record_key'])} — {escape(values)}</p>",
-                f"<div class='reference'><strong>Reference summary:</strong> {escape(document['reference'] or '')}</div>",
-                f"<div class='source'>{_highlighted(document['text'], picked, bound)}</div>",
+                f"<p class='small'>{escape(document.record_key)} — {escape(values)}</p>",
+                f"<div class='reference'><strong>Reference summary:</strong> {escape(document.reference or '')}</div>",
+                f"<div class='source'>{_highlighted(document.text, picked, bound)}</div>",
             ]
     return "\n".join(parts)
 
@@ -248,11 +247,8 @@ def report(
             f"<img alt='Summary lengths, {escape(group.budget)}' src='{_length_chart(group, comparison)}'>",
         ]
     if comparison.groups:
-        db = open_database(db_path)
-        try:
-            parts.append(_examples(db, comparison.groups[0], examples))
-        finally:
-            db.close()
+        with Store(db_path) as store:
+            parts.append(_examples(store, comparison.groups[0], examples))
     parts += [f"<p class='caution'>{caution}</p>", "</body></html>"]
     out = Path(out_path)
     out.write_text("\n".join(parts), encoding="utf-8")

@@ -27,10 +27,10 @@ from collections.abc import Iterable, Iterator
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
-from store.documents import stored_document
-from store.lock import StoreLock, describe_holder
+from store.lock import describe_holder
 from store.records import Document, param_hash
-from store.writes import Store
+from store.runs import recorded_run
+from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.reading.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
@@ -190,7 +190,7 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
                 return
             if isinstance(item, IngestProblem):
                 files_visited.add(_file_of(item.path))
-                store.record_problem(run_id, item.path, item.kind, item.reason)
+                store.runs.record_problem(run_id, item.path, item.kind, item.reason)
                 if item.kind == "error":
                     files_failed.add(_file_of(item.path))
                     report.errors.append(str(item))
@@ -211,7 +211,7 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     with make_executor([], workers=workers, scheduler=scheduler) as executor:
         for document, segmentation in executor.split_documents(new_documents(), stop):
             if isinstance(segmentation, Exception):
-                store.record_problem(run_id, document.record_key, "error", str(segmentation))
+                store.runs.record_problem(run_id, document.record_key, "error", str(segmentation))
                 report.errors.append(f"{document.record_key}: {segmentation}")
                 progress.error(f"{document.record_key}: {segmentation}")
                 continue
@@ -221,12 +221,11 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
         report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
         return document_ids
     roots = [os.path.abspath(p) for p in paths]
-    for document_id, record_key in store.db.execute(
-        "select id, record_key from documents where status = 'active'"
-    ).fetchall():
+    for stored in store.documents.active():
         # A file that is still there but failed to read this time keeps its last good version.
-        if record_key not in seen_keys and _file_of(record_key) not in files_failed and _under(record_key, roots):
-            store.mark_missing(document_id)
+        key = stored.record_key
+        if key not in seen_keys and _file_of(key) not in files_failed and _under(key, roots):
+            store.mark_missing(stored.id)
             report.missing += 1
     return document_ids
 
@@ -264,29 +263,27 @@ def run_archive(
             method.load()
     if scheduler:
         check_scheduler(scheduler)
-    lock = StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress.message)
-    with lock, stop:
-        if lock.stale_holder:
+    config = {
+        "paths": paths,
+        "methods": {m.name: m.get_params() for m in active},
+        "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
+        "record_fields": asdict(fields),
+        "workers": workers,
+        "scheduler": scheduler,
+        "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
+        **(config_extra or {}),
+    }
+    with recorded_run(db_path, "run", config, lock_wait_seconds, progress.message) as run, stop:
+        if run.lock.stale_holder:
             progress.message(
-                f"took over the lock left by {describe_holder(lock.stale_holder)}, which is no longer running"
+                f"took over the lock left by {describe_holder(run.lock.stale_holder)}, which is no longer running"
             )
-        store = Store(db_path)
-        interrupted = store.close_interrupted_runs()
-        if interrupted:
-            progress.message(f"{interrupted} earlier run(s) had been interrupted; doing what they left undone")
-        config = {
-            "paths": paths,
-            "methods": {m.name: m.get_params() for m in active},
-            "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
-            "record_fields": asdict(fields),
-            "workers": workers,
-            "scheduler": scheduler,
-            "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
-            **(config_extra or {}),
-        }
-        run_id = store.begin_run("run", config)
+        if run.earlier_interrupted:
+            progress.message(
+                f"{run.earlier_interrupted} earlier run(s) had been interrupted; doing what they left undone"
+            )
+        store, run_id = run.store, run.run_id
         report = RunReport(run_id=run_id)
-        status = "failed"
         try:
             document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler)
             progress.message(
@@ -308,11 +305,10 @@ def run_archive(
                     f"{report.stop_reason}: {report.documents_remaining} documents remain to summarize{unread}; "
                     "rerun the same command to finish them"
                 )
-            status = "stopped" if report.stop_reason else "completed"
+            run.status = "stopped" if report.stop_reason else "completed"
         finally:
             report.seconds = time.perf_counter() - started
-            store.finish_run(run_id, status, report.counts())
-            store.close()
+            run.counts = report.counts()
             progress.close()
     return report
 
@@ -331,7 +327,7 @@ def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: d
             resolved.append(concrete)
     config["decisions"] = {method.name: method.decision for method in deferred}
     config["methods"] = {method.name: method.get_params() for method in resolved}
-    store.update_run_config(run_id, config)
+    store.runs.update_config(run_id, config)
     return resolved
 
 
@@ -356,11 +352,6 @@ def _pending(store: Store, document_ids: list[int], active: list, report: RunRep
     return todo
 
 
-def _stored_texts(store: Store, document_ids: list[int]):
-    for document_id in document_ids:
-        yield store.db.execute("select text from documents where id = ?", [document_id]).fetchone()[0]
-
-
 def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
     """Pass 2: fit archive statistics, then compute and store what is missing."""
     todo = _pending(store, document_ids, active, report)
@@ -368,7 +359,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
         progress.message("nothing to summarize: every summary is already stored")
         return
     for method in active:
-        method.fit(_stored_texts(store, document_ids))
+        method.fit(store.documents.texts(document_ids))
     # Methods that generate in batches (seq2seq) run in this process, after the others.
     batched = [m for m in active if hasattr(m, "summarize_many")]
     per_document = [m for m in active if not hasattr(m, "summarize_many")]
@@ -383,7 +374,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             progress.advance()
 
     jobs = (
-        (document_id, stored_document(store.db, document_id), sorted(names & per_document_names))
+        (document_id, store.documents.load(document_id), sorted(names & per_document_names))
         for document_id, names in list(todo.items())
         if names & per_document_names
     )
@@ -398,7 +389,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             if stop.reason():
                 break
             chunk = wanted[start : start + size]
-            loaded = [stored_document(store.db, document_id) for document_id in chunk]
+            loaded = [store.documents.load(document_id) for document_id in chunk]
             for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
                 _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
                 finished(document_id, {method.name})
@@ -412,7 +403,7 @@ def _store_outcomes(store, run_id, document_id, document, outcomes, report, prog
         for method_name, outcome in outcomes:
             if isinstance(outcome, Exception):
                 reason = f"{method_name} failed: {outcome}"
-                store.record_problem(run_id, document.record_key, "error", reason)
+                store.runs.record_problem(run_id, document.record_key, "error", reason)
                 report.failed_summaries.append(f"{document.record_key}: {reason}")
                 progress.error(f"{document.record_key}: {reason}")
                 continue

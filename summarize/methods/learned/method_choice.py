@@ -15,9 +15,8 @@ import copy
 from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 
-from store.evaluation import referenced_document_ids
-from store.learned_models import latest_learned_model
-from store.writes import Store
+from store.runs import recorded_run
+from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.methods.learned.house_style import HouseStyleSummarizer
@@ -97,7 +96,7 @@ def choose_in_store(
 ) -> Decision:
     """Evaluate lead, TF-IDF, TextRank and (with enough references) house-style on the
     referenced documents, held out and at matched budgets, and pick the best."""
-    referenced = len(referenced_document_ids(store.db))
+    referenced = len(store.references.referenced_document_ids())
     if referenced == 0:
         decision = Decision(
             requested, "lead", "no document in the store has a reference summary, so nothing can be "
@@ -129,7 +128,7 @@ def choose_in_store(
 
 
 def _pretrained(store: Store, budget: Budget, mmr_lambda: float | None) -> PretrainedMethod:
-    stored = latest_learned_model(store.db, LEARNED)
+    stored = store.models.latest(LEARNED)
     method = copy.copy(stored.method)
     method.budget = budget
     method.mmr_lambda = mmr_lambda
@@ -153,7 +152,7 @@ class HouseStyleForRun:
                 "seed": self.seed, "model": "latest stored; trained from the referenced documents when none"}
 
     def resolve(self, store: Store, run_id: int, say: Callable[[str], None] | None = None):
-        stored = latest_learned_model(store.db, LEARNED)
+        stored = store.models.latest(LEARNED)
         if stored is not None and stored.features == list(FEATURE_NAMES):
             self.decision = Decision(
                 LEARNED, LEARNED, f"latest stored model #{stored.id} (trained {stored.created})", fallback=False,
@@ -204,18 +203,8 @@ def choose(
 ) -> tuple[int, Decision]:
     """:func:`choose_in_store` as a run of its own (command ``choose``), under the
     store's writer lock; the decision is kept in the run's configuration."""
-    from store.lock import StoreLock
-
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=say):
-        store = Store(db_path)
-        config = {"folds": folds, "seed": seed, "selection_rule": SELECTION_RULE}
-        run_id = store.begin_run("choose", config)
-        status = "failed"
-        try:
-            decision = choose_in_store(store, run_id, folds, seed, say)
-            store.update_run_config(run_id, {**config, "decisions": {"auto": decision.as_dict()}})
-            status = "completed"
-        finally:
-            store.finish_run(run_id, status, {})
-            store.close()
-    return run_id, decision
+    config = {"folds": folds, "seed": seed, "selection_rule": SELECTION_RULE}
+    with recorded_run(db_path, "choose", config, lock_wait_seconds, say) as run:
+        decision = choose_in_store(run.store, run.run_id, folds, seed, say)
+        run.store.runs.update_config(run.run_id, {**config, "decisions": {"auto": decision.as_dict()}})
+    return run.run_id, decision

@@ -23,11 +23,9 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from store.documents import stored_document
-from store.evaluation import active_texts, referenced_document_ids
-from store.learned_models import latest_learned_model, save_learned_model
 from store.records import param_hash
-from store.writes import Store
+from store.runs import recorded_run
+from store.store import Store
 from summarize.evaluation.matched import SUMMARIZERS, MatchedBudget, add_matched_summaries
 from summarize.evaluation.rouge import RougeMetric
 from summarize.evaluation.scoring import score_unscored
@@ -91,18 +89,13 @@ def held_out_means(
     summary of a document with that reference carries (so other settings stored in
     the same file are left out)."""
     per_method: dict[str, dict[int, dict[str, float]]] = {name: {} for name in expected}
+    references = store.references.of_ids(document_ids)
     for document_id in document_ids:
-        reference = store.db.execute(
-            "select text from reference_summaries where document_id = ?", [document_id]
-        ).fetchone()[0]
+        reference = references[document_id].text
         for name, params_for in expected.items():
-            rows = store.db.execute(
-                "select c.metric, c.f1 from summaries s join scores c on c.summary_id = s.id "
-                "where s.document_id = ? and s.method = ? and s.param_hash = ?",
-                [document_id, name, param_hash(name, params_for(reference))],
-            ).fetchall()
-            if rows:
-                per_method[name][document_id] = dict(rows)
+            f1 = store.evaluation.f1_by_metric(document_id, name, param_hash(name, params_for(reference)))
+            if f1:
+                per_method[name][document_id] = f1
     shared = set(document_ids)
     for scores in per_method.values():
         shared &= set(scores)
@@ -123,7 +116,7 @@ def score_fixed_methods(store: Store, run_id: int, progress: Callable[[str], Non
     add_matched_summaries(store, run_id, MatchedBudget(), FIXED_METHODS, progress)
     score_unscored(store, RougeMetric(), progress)
     expected = {name: (lambda reference, name=name: matched_params(name, reference)) for name in FIXED_METHODS}
-    return held_out_means(store, referenced_document_ids(store.db), expected)
+    return held_out_means(store, store.references.referenced_document_ids(), expected)
 
 
 def train_in_store(
@@ -142,7 +135,7 @@ def train_in_store(
     """
     started = time.perf_counter()
     prototype = HouseStyleSummarizer() if prototype is None else prototype
-    ids = referenced_document_ids(store.db)
+    ids = store.references.referenced_document_ids()
     fold_count = usable_folds(len(ids), folds)
     if fold_count is None:
         raise TooFewReferences(
@@ -150,7 +143,7 @@ def train_in_store(
             f"{MIN_REFERENCED_DOCUMENTS} to train and cross-validate"
         )
     cv = CrossValidation(folds=fold_count, seed=prototype.seed)
-    examples = [stored_document(store.db, document_id) for document_id in ids]
+    examples = [store.documents.load(document_id) for document_id in ids]
     missing = {
         k
         for k, (document_id, (document, _)) in enumerate(zip(ids, examples))
@@ -158,7 +151,7 @@ def train_in_store(
             document_id, prototype.name, param_hash(prototype.name, cv.summary_params(prototype, document.reference_summary))
         )
     }
-    latest = latest_learned_model(store.db, prototype.name)
+    latest = store.models.latest(prototype.name)
     current = (
         latest is not None
         and latest.training_documents == sorted(ids)
@@ -167,7 +160,7 @@ def train_in_store(
     )
     report = TrainingReport(model_id=latest.id if current else 0, documents=len(ids), folds=fold_count)
     if missing or not current:
-        fitted = prototype.untrained_copy().fit_features(active_texts(store.db))
+        fitted = prototype.untrained_copy().fit_features(store.documents.active_texts())
         if progress:
             progress(f"house-style: labelling sentences of {len(ids)} referenced documents with the oracle")
         rows = [fitted.labelled_rows(document, segmentation) for document, segmentation in examples]
@@ -184,8 +177,7 @@ def train_in_store(
         report.reused_model = True
     else:
         final = fitted.untrained_copy().fit_rows(rows)
-        report.model_id = save_learned_model(
-            store.db,
+        report.model_id = store.models.save(
             final,
             run_id,
             ids,
@@ -213,17 +205,9 @@ def train(
 ) -> tuple[int, TrainingReport]:
     """:func:`train_in_store` as a run of its own (command ``train``), under the
     store's writer lock; returns the run id and the report."""
-    from store.lock import StoreLock
-
     prototype = HouseStyleSummarizer(model=model, seed=seed)
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        store = Store(db_path)
-        run_id = store.begin_run("train", {"method": prototype.name, "params": prototype.get_params(), "folds": folds})
-        status, counts = "failed", {}
-        try:
-            report = train_in_store(store, run_id, prototype, folds, progress)
-            status, counts = "completed", report.as_dict()
-        finally:
-            store.finish_run(run_id, status, counts)
-            store.close()
-    return run_id, report
+    config = {"method": prototype.name, "params": prototype.get_params(), "folds": folds}
+    with recorded_run(db_path, "train", config, lock_wait_seconds, progress) as run:
+        report = train_in_store(run.store, run.run_id, prototype, folds, progress)
+        run.counts = report.as_dict()
+    return run.run_id, report

@@ -1,0 +1,88 @@
+"""The rows every export is made of: one per stored summary of a current (not
+replaced) document, built with joins in a fixed number of queries."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import sqlite_utils
+
+from store.references import References
+from store.summary_details import SentenceRead, load_summary_details
+
+
+@dataclass
+class ExportRow:
+    """One stored summary with its document, reference and scores."""
+
+    document_id: int
+    record_key: str
+    path: str
+    title: str | None
+    date: str | None
+    format: str
+    status: str
+    method: str
+    param_hash: str
+    summary: str
+    source_spans: list[list[int]]
+    flags: list[str]
+    rouge_f1: dict[str, float]
+    reference_summary: str | None
+    reference_source: str | None
+    summary_sentences: list[SentenceRead] = field(default_factory=list)
+
+
+class ExportReads:
+    """Reads for ``export``."""
+
+    def __init__(self, db: sqlite_utils.Database, references: References):
+        self.db = db
+        self.references = references
+
+    def rows(self, methods: list[str] | None = None) -> list[ExportRow]:
+        """Every stored summary of a current document (optionally only ``methods``),
+        ordered by record key, method and summary id."""
+        where = "d.status != 'replaced'"
+        params: list = []
+        if methods:
+            where += f" and s.method in ({', '.join('?' for _ in methods)})"
+            params += methods
+        documents = {
+            row[0]: row
+            for row in self.db.execute(
+                "select id, record_key, path, title, date, format, status, text from documents "
+                "where id in (select s.document_id from summaries s join documents d on d.id = s.document_id "
+                f"where {where})",
+                params,
+            )
+        }
+        references = self.references.of_documents(status_not="replaced")
+        details = load_summary_details(
+            self.db, where, params, lambda document_id: documents[document_id][7], order="d.record_key, s.method, s.id"
+        )
+        rows = []
+        for detail in details:
+            document_id, record_key, path, title, date, fmt, status, _text = documents[detail.document_id]
+            reference = references.get(document_id)
+            rows.append(
+                ExportRow(
+                    document_id=document_id,
+                    record_key=record_key,
+                    path=path,
+                    title=title,
+                    date=date,
+                    format=fmt,
+                    status=status,
+                    method=detail.method,
+                    param_hash=detail.param_hash,
+                    summary=detail.text,
+                    source_spans=[[src.start, src.end] for s in detail.sentences for src in s.sources[:1]],
+                    flags=[f"{flag.kind}: {flag.detail}" for flag in detail.flags],
+                    rouge_f1={metric: round(v["f1"], 4) for metric, v in detail.scores.items()},
+                    reference_summary=reference.text if reference else None,
+                    reference_source=reference.source if reference else None,
+                    summary_sentences=detail.sentences,
+                )
+            )
+        return rows

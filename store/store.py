@@ -1,0 +1,74 @@
+"""The store handle: one SQLite file, opened in one place, read and written only
+through this object.
+
+    store = Store("archive.sqlite")             # created (and migrated) when missing
+    store = Store("archive.sqlite", read_only=True)
+    store.documents.load(document_id)           # stored documents as records
+    store.references.of(document_id)            # reference summaries
+    store.evaluation.unscored()                 # scoring and comparison reads
+    store.queries.find("tram")                  # search and ``show``
+    store.exports.rows()                        # the rows every export is made of
+    store.models.latest("house-style")          # trained methods kept with the store
+    store.runs.begin("score", config)           # run bookkeeping (see store/runs.py)
+    store.add_summary(document_id, run_id, summary)   # writes (see store/writes.py)
+
+Each concern lives in its own module and reaches the database through the handle's
+connection; nothing outside ``store/`` holds SQL.
+"""
+
+from __future__ import annotations
+
+from contextlib import contextmanager
+
+import sqlite_utils
+
+from store.documents import DocumentReads
+from store.evaluation import EvaluationStore
+from store.exports import ExportReads
+from store.learned_models import LearnedModels
+from store.queries import Queries
+from store.references import References
+from store.runs import RunLog
+from store.schema import open_database
+from store.writes import StoreWrites
+
+
+class Store(StoreWrites):
+    """A summary store in one SQLite file.
+
+    ``read_only`` opens an existing store without creating or migrating anything
+    (for commands that only read); writes then fail in SQLite itself.
+    """
+
+    def __init__(self, path: str, read_only: bool = False):
+        self.path = path
+        self.read_only = read_only
+        self.db: sqlite_utils.Database = open_database(path, read_only=read_only)
+        self.references = References(self.db)
+        self.documents = DocumentReads(self.db, self.references)
+        self.evaluation = EvaluationStore(self.db, self.references)
+        self.queries = Queries(self.db, self.references)
+        self.exports = ExportReads(self.db, self.references)
+        self.models = LearnedModels(self.db)
+        self.runs = RunLog(self.db)
+
+    def close(self) -> None:
+        self.db.close()
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    @contextmanager
+    def transaction(self):
+        """All writes inside are committed together or not at all; nests.
+
+        sqlite-utils' ``atomic()``: an explicit BEGIN/COMMIT, with savepoints when
+        nested. (A plain ``with db.conn:`` is not enough: sqlite-utils commits each
+        write made outside an explicit transaction on its own, so a kill between two
+        of them would leave, say, a document without its sentences.)
+        """
+        with self.db.atomic():
+            yield
