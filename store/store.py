@@ -42,7 +42,6 @@ class Store(StoreWrites):
 
     def __init__(self, path: str, read_only: bool = False):
         self.path = path
-        self.read_only = read_only
         self.db: sqlite_utils.Database = open_database(path, read_only=read_only)
         self.references = References(self.db)
         self.documents = DocumentReads(self.db, self.references)

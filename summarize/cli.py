@@ -35,10 +35,14 @@ def _fail(message: str) -> None:
     sys.exit(EXIT_FAILED)
 
 
-def _open_existing(db_path: str):
+def _existing(db_path: str) -> str:
     if not Path(db_path).exists():
         _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
-    return Store(db_path)
+    return db_path
+
+
+def _open_existing(db_path: str) -> Store:
+    return Store(_existing(db_path), read_only=True)
 
 
 def _budget(_ctx, _param, value: str) -> Budget:
@@ -320,9 +324,8 @@ def show(document, db_path, method, highlight, as_json):
 @click.option("--methods", default=None, help="Comma-separated methods to export (default: all).")
 def export(db_path, fmt, out_path, methods):
     """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file."""
-    store = _open_existing(db_path)
     chosen = [m.strip() for m in methods.split(",")] if methods else None
-    count = export_summaries(store, fmt, out_path, methods=chosen)
+    count = export_summaries(_existing(db_path), fmt, out_path, methods=chosen)
     click.echo(f"wrote {count} summaries to {out_path}")
 
 

@@ -106,12 +106,13 @@ def _write_html(rows: list[ExportRow], out) -> None:
 _WRITERS = {"csv": _write_csv, "jsonl": _write_jsonl, "md": _write_markdown, "html": _write_html}
 
 
-def export(store: Store, format: str, out_path: str | Path, methods: list[str] | None = None) -> int:
+def export(db_path: str, format: str, out_path: str | Path, methods: list[str] | None = None) -> int:
     """Write every stored summary (optionally only ``methods``) to ``out_path``;
     returns the number of summaries written."""
     if format not in _WRITERS:
         raise ValueError(f"unknown export format {format!r} (expected one of {', '.join(FORMATS)})")
-    rows = store.exports.rows(methods)
+    with Store(db_path, read_only=True) as store:
+        rows = store.exports.rows(methods)
     with open(out_path, "w", encoding="utf-8", newline="") as out:
         _WRITERS[format](rows, out)
     return len(rows)
