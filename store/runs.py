@@ -131,21 +131,31 @@ def recorded_run(
     Raises :class:`~store.lock.StoreLocked` (before anything is written) when
     another process holds the store.
     """
+    with writable_store(db_path, wait_seconds, on_wait) as (store, lock):
+        earlier = store.runs.close_interrupted()
+        run = RecordedRun(store, store.runs.begin(command, config), lock, earlier)
+        try:
+            yield run
+        except KeyboardInterrupt:
+            store.runs.finish(run.run_id, "interrupted", run.counts)
+            raise
+        except BaseException:
+            store.runs.finish(run.run_id, "failed", run.counts)
+            raise
+        store.runs.finish(run.run_id, run.status, run.counts)
+
+
+@contextmanager
+def writable_store(
+    db_path: str, wait_seconds: float = 0.0, on_wait: Callable[[str], None] | None = None
+) -> Iterator[tuple[Store, StoreLock]]:
+    """The store at ``db_path`` opened under its writer lock; closed, then
+    released, however the body ends."""
     from store.store import Store
 
     with StoreLock(db_path, wait_seconds=wait_seconds, on_wait=on_wait) as lock:
         store = Store(db_path)
         try:
-            earlier = store.runs.close_interrupted()
-            run = RecordedRun(store, store.runs.begin(command, config), lock, earlier)
-            try:
-                yield run
-            except KeyboardInterrupt:
-                store.runs.finish(run.run_id, "interrupted", run.counts)
-                raise
-            except BaseException:
-                store.runs.finish(run.run_id, "failed", run.counts)
-                raise
-            store.runs.finish(run.run_id, run.status, run.counts)
+            yield store, lock
         finally:
             store.close()

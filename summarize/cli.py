@@ -348,7 +348,7 @@ def score(db_path, budget, methods, wait_lock, as_json):
     # NLTK would add most of a second to the start of every other command.
     from summarize.evaluation.scoring import score as score_summaries
 
-    _open_existing(db_path).close()
+    _existing(db_path)
     try:
         outcome = score_summaries(
             db_path, budget=budget, methods=[m.strip() for m in methods.split(",") if m.strip()],
@@ -380,7 +380,7 @@ def compare(db_path, budget, measure, resamples, seed, as_json):
     from summarize.evaluation.compare import compare as compare_methods
     from summarize.output.tables import comparison_json, format_comparison
 
-    _open_existing(db_path).close()
+    _existing(db_path)
     try:
         comparison = compare_methods(db_path, measure=measure, budget=budget, resamples=resamples, seed=seed)
     except ValueError as error:
@@ -402,7 +402,7 @@ def report(db_path, out_path, budget, examples, resamples, seed):
     best- and worst-scored documents with the chosen sentences highlighted."""
     from summarize.output.report import report as write_report
 
-    _open_existing(db_path).close()
+    _existing(db_path)
     try:
         written = write_report(db_path, out_path, budget=budget, examples=examples, resamples=resamples, seed=seed)
     except ValueError as error:
@@ -433,7 +433,7 @@ def train(db_path, folds, model_kind, seed, wait_lock, as_json):
     from summarize.methods.learned.training import train as train_method
     from summarize.output.tables import format_comparison
 
-    _open_existing(db_path).close()
+    _existing(db_path)
     say = (lambda text: click.echo(text, err=True)) if not as_json else None
     try:
         run_id, outcome = train_method(db_path, folds=folds, model=model_kind, seed=seed, progress=say,
@@ -468,7 +468,7 @@ def choose(db_path, folds, seed, wait_lock, as_json):
     """
     from summarize.methods.learned.method_choice import choose as choose_method
 
-    _open_existing(db_path).close()
+    _existing(db_path)
     say = lambda text: click.echo(text, err=True)  # noqa: E731 - one-line progress sink
     try:
         run_id, decision = choose_method(db_path, folds=folds, seed=seed, say=say, lock_wait_seconds=wait_lock)

@@ -14,8 +14,7 @@ import time
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass
 
-from store.lock import StoreLock
-from store.runs import recorded_run
+from store.runs import recorded_run, writable_store
 from store.store import Store
 from summarize.evaluation.matched import (
     MATCHED_METHODS,
@@ -54,7 +53,7 @@ def score_store(
     """Score every stored summary whose document has a reference and that has no
     score yet; returns how many summaries were scored. Takes the store's writer lock
     (:class:`~store.lock.StoreLocked` when a run holds it)."""
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress), Store(db_path) as store:
+    with writable_store(db_path, lock_wait_seconds, progress) as (store, _lock):
         return score_unscored(store, metric or RougeMetric(), progress)
 
 
