@@ -6,7 +6,7 @@ BIN := $(VENV)/bin
 DEMO_DB ?= demo.sqlite
 DEMO_OUT ?= demo_export
 
-.PHONY: demo test check lint install bench clean
+.PHONY: demo test check lint install bench clean browser
 
 $(BIN)/summarize: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -33,7 +33,12 @@ lint: install
 	$(BIN)/ruff check .
 	$(BIN)/lint-imports
 
-test: lint
+# The browser tests drive the distribution's chromium (never a browser Playwright
+# would download); installed here when missing (needs root, as CI runs).
+browser:
+	command -v chromium >/dev/null || (apt-get update && apt-get install -y chromium)
+
+test: lint browser
 	$(BIN)/python -m pytest -q
 
 bench: install

@@ -18,3 +18,8 @@ class UsageError(SummarizerError):
     """A bad command line, option value or job file."""
 
     exit_status = 2
+
+
+class StoreNotReadable(SummarizerError, RuntimeError):
+    """A store opened for reading is missing, not a store, or of another schema version.
+    (Also a RuntimeError, which the writing commands catch for an unusable store.)"""

@@ -1,14 +1,23 @@
-"""The rows every export is made of: one per stored summary of a current (not
-replaced) document, built with joins in a fixed number of queries."""
+"""The rows every export is made of: one per stored summary of a document of the
+chosen statuses (by default current and not gone from disk), built with joins in a
+fixed number of queries; and the summary settings a store holds, to choose from."""
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass, field
 
 import sqlite_utils
 
 from store.references import References
 from store.summary_details import SentenceRead, load_summary_details
+
+
+EXPORTED_STATUSES = ("active", "duplicate")
+
+
+def _marks(values) -> str:
+    return ", ".join("?" for _ in values)
 
 
 @dataclass
@@ -24,6 +33,7 @@ class ExportRow:
     status: str
     method: str
     param_hash: str
+    params: dict
     summary: str
     source_spans: list[list[int]]
     flags: list[str]
@@ -40,14 +50,42 @@ class ExportReads:
         self.db = db
         self.references = references
 
-    def rows(self, methods: list[str] | None = None) -> list[ExportRow]:
-        """Every stored summary of a current document (optionally only ``methods``),
-        ordered by record key, method and summary id."""
-        where = "d.status != 'replaced'"
-        params: list = []
+    def settings(self, statuses=EXPORTED_STATUSES) -> list[dict]:
+        """Each stored (method, parameters) pair with how many documents of the given
+        statuses it summarized, most documents first."""
+        rows = self.db.execute(
+            "select s.method, s.param_hash, min(s.params), count(distinct s.document_id) as documents "
+            "from summaries s join documents d on d.id = s.document_id "
+            f"where d.status in ({_marks(statuses)}) group by s.method, s.param_hash "
+            "order by documents desc, s.method, s.param_hash",
+            list(statuses),
+        ).fetchall()
+        return [
+            {"method": method, "param_hash": p_hash, "params": json.loads(params), "documents": count}
+            for method, p_hash, params, count in rows
+        ]
+
+    def rows(
+        self,
+        methods: list[str] | None = None,
+        param_hashes: list[str] | None = None,
+        document_ids: list[int] | None = None,
+        statuses=EXPORTED_STATUSES,
+    ) -> list[ExportRow]:
+        """Every stored summary of a document with one of ``statuses``; only the given
+        methods, parameter hashes and documents when those are given; ordered by
+        record key, method and summary id."""
+        where = f"d.status in ({_marks(statuses)})"
+        params: list = list(statuses)
         if methods:
-            where += f" and s.method in ({', '.join('?' for _ in methods)})"
+            where += f" and s.method in ({_marks(methods)})"
             params += methods
+        if param_hashes:
+            where += " and s.param_hash in (select value from json_each(?))"
+            params.append(json.dumps(param_hashes))
+        if document_ids is not None:
+            where += " and d.id in (select value from json_each(?))"
+            params.append(json.dumps(document_ids))
         documents = {
             row[0]: row
             for row in self.db.execute(
@@ -76,6 +114,7 @@ class ExportReads:
                     status=status,
                     method=detail.method,
                     param_hash=detail.param_hash,
+                    params=detail.params,
                     summary=detail.text,
                     source_spans=[[src.start, src.end] for s in detail.sentences for src in s.sources[:1]],
                     flags=[f"{flag.kind}: {flag.detail}" for flag in detail.flags],

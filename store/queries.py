@@ -1,15 +1,23 @@
-"""Reading the store for people: search, and one document with everything known
-about it."""
+"""Reading the store for people: search (the grammar in store/search.py, run by
+store/search_queries.py), and one document with everything known about it."""
 
 from __future__ import annotations
 
 import json
 import os
-from dataclasses import dataclass, field
 
 import sqlite_utils
 
 from store.references import References
+from store.search import ParsedQuery
+from store.search_queries import (
+    DocumentHeading,
+    SearchPage,
+    document_formats,
+    document_heading,
+    search_documents,
+    summary_methods,
+)
 from store.summary_details import load_summary_details
 
 
@@ -17,64 +25,29 @@ class DocumentNotFound(LookupError):
     pass
 
 
-@dataclass
-class SearchMatch:
-    """Where a search matched: a method's summary, or (``method`` None) the title or path."""
-
-    method: str | None
-    snippet: str
-
-
-@dataclass
-class SearchHit:
-    document_id: int
-    record_key: str
-    title: str | None
-    date: str | None
-    matches: list[SearchMatch] = field(default_factory=list)
-
-
 class Queries:
-    """``find`` and ``show``."""
+    """Search (``find`` and the review site) and ``show``."""
 
     def __init__(self, db: sqlite_utils.Database, references: References):
         self.db = db
         self.references = references
 
-    def find(self, query: str, limit: int = 20, method: str | None = None) -> list[SearchHit]:
-        """Documents whose title, path or summaries match ``query`` (FTS5, Porter
-        stemmed), best match first. Each hit names the document, the method whose
-        summary matched (None when only the title or path did) and a snippet with
-        matches in [brackets]."""
-        quoted = self.db.quote_fts(query)
-        hits: dict[int, SearchHit] = {}
-        summary_sql = """
-            select d.id, d.record_key, d.title, d.date, s.method,
-                   snippet(summaries_fts, 0, '[', ']', ' … ', 16) as snippet,
-                   bm25(summaries_fts) as rank
-            from summaries_fts
-            join summaries s on s.rowid = summaries_fts.rowid
-            join documents d on d.id = s.document_id
-            where summaries_fts match ? and d.status != 'replaced'
-        """
-        params: list = [quoted]
-        if method:
-            summary_sql += " and s.method = ?"
-            params.append(method)
-        title_sql = """
-            select d.id, d.record_key, d.title, d.date, null as method,
-                   snippet(documents_fts, 0, '[', ']', ' … ', 16) as snippet,
-                   bm25(documents_fts) as rank
-            from documents_fts join documents d on d.id = documents_fts.rowid
-            where documents_fts match ? and d.status != 'replaced'
-        """
-        rows = list(self.db.execute(summary_sql, params).fetchall())
-        if not method:
-            rows += list(self.db.execute(title_sql, [quoted]).fetchall())
-        for doc_id, record_key, title, date, hit_method, snippet, _rank in sorted(rows, key=lambda r: r[6]):
-            hit = hits.setdefault(doc_id, SearchHit(doc_id, record_key, title, date))
-            hit.matches.append(SearchMatch(hit_method, snippet))
-        return list(hits.values())[:limit]
+    def search(self, query: ParsedQuery, offset: int = 0, limit: int = 20, snippets: bool = True) -> SearchPage:
+        """One page of documents matching a parsed query (store/search.py), best
+        first, with the total count; see store/search_queries.py."""
+        return search_documents(self.db, query, offset=offset, limit=limit, snippets=snippets)
+
+    def heading(self, document_id: int) -> DocumentHeading | None:
+        """Id, title and record key of one document (for links to it)."""
+        return document_heading(self.db, document_id)
+
+    def formats(self) -> list[str]:
+        """Every document format in the store."""
+        return document_formats(self.db)
+
+    def methods(self) -> list[str]:
+        """Every method with a stored summary."""
+        return summary_methods(self.db)
 
     def resolve(self, reference: str) -> dict:
         """A document row by id, record key or path; the current version when a

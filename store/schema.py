@@ -15,7 +15,8 @@ One file holds everything, readable with any SQLite tool:
     learned_models       trained sentence scorers (version 2): the fitted model,
                          what it was trained on, and its cross-validated scores
 
-Full-text search (FTS5) covers document titles and summary texts.
+Full-text search (FTS5) covers document titles, record keys and text (version 3)
+and summary texts.
 """
 
 from __future__ import annotations
@@ -25,7 +26,9 @@ from pathlib import Path
 
 import sqlite_utils
 
-SCHEMA_VERSION = 2
+from store.errors import StoreNotReadable
+
+SCHEMA_VERSION = 3
 
 
 def _create_v1(db: sqlite_utils.Database) -> None:
@@ -150,7 +153,57 @@ def _create_v2(db: sqlite_utils.Database) -> None:
     db["learned_models"].create_index(["name", "created"])
 
 
-MIGRATIONS = {1: _create_v1, 2: _create_v2}
+_DOCUMENT_FTS_COLUMNS = "title, record_key, text"
+SEARCH_DOCUMENTS_INDEX = "documents_search"
+SEARCH_SUMMARIES_INDEX = "summaries_search"
+GENERATED_SENTENCES_INDEX = "sentence_sources_generated"
+# A source link at least this similar is the summary sentence itself (extractive).
+VERBATIM_SIMILARITY = 0.999
+
+
+def _create_v3(db: sqlite_utils.Database) -> None:
+    """Version 3 makes the documents' text searchable: the document index covers title,
+    record key and text (it covered title and path), an external-content FTS5 table,
+    so the text is still held once. Diacritics are folded (Brelade finds Brélade).
+    The triggers fire only when an indexed column changes: a run touches every
+    document's ``last_run`` and status, which must not re-index its text.
+
+    Two covering indexes serve search: a document row holds its whole text, so
+    reading its status or date from the table means reading past the text; these
+    indexes hold, by id, what search filters on and lists, and which document and
+    method a summary belongs to. A partial index lists the summaries with generated
+    (not verbatim) sentences: only those can hold words their document's text lacks,
+    so only those are searched to find documents."""
+    db["documents"].disable_fts()
+    db.execute(f"create index {SEARCH_DOCUMENTS_INDEX} on documents (id, status, format, date, path, record_key, title)")
+    db.execute(f"create index {SEARCH_SUMMARIES_INDEX} on summaries (id, document_id, method)")
+    db.execute(
+        f"create index {GENERATED_SENTENCES_INDEX} on sentence_sources (summary_id) "
+        f"where similarity < {VERBATIM_SIMILARITY}"
+    )
+    db.execute(
+        f"create virtual table documents_fts using fts5({_DOCUMENT_FTS_COLUMNS}, content='documents', "
+        "content_rowid='id', tokenize='porter unicode61 remove_diacritics 2')"
+    )
+    db.execute("insert into documents_fts(documents_fts) values ('rebuild')")
+    new_values = "new.id, new.title, new.record_key, new.text"
+    old_values = "'delete', old.id, old.title, old.record_key, old.text"
+    db.execute(
+        "create trigger documents_fts_insert after insert on documents begin "
+        f"insert into documents_fts(rowid, {_DOCUMENT_FTS_COLUMNS}) values ({new_values}); end"
+    )
+    db.execute(
+        "create trigger documents_fts_delete after delete on documents begin "
+        f"insert into documents_fts(documents_fts, rowid, {_DOCUMENT_FTS_COLUMNS}) values ({old_values}); end"
+    )
+    db.execute(
+        f"create trigger documents_fts_update after update of {_DOCUMENT_FTS_COLUMNS} on documents begin "
+        f"insert into documents_fts(documents_fts, rowid, {_DOCUMENT_FTS_COLUMNS}) values ({old_values}); "
+        f"insert into documents_fts(rowid, {_DOCUMENT_FTS_COLUMNS}) values ({new_values}); end"
+    )
+
+
+MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3}
 
 
 def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
@@ -182,14 +235,23 @@ def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
 
 
 def _open_read_only(path: str) -> sqlite_utils.Database:
-    """SQLite's own read-only mode: nothing is created, migrated or written."""
+    """SQLite's own read-only mode: nothing is created, migrated or written. Besides
+    ``mode=ro`` (the connection cannot write the file), ``PRAGMA query_only`` makes any
+    write statement fail (sqlite.org/uri.html, sqlite.org/pragma.html#pragma_query_only)."""
+    if not Path(path).is_file():
+        raise StoreNotReadable(f"{path}: no such store")
     connection = sqlite3.connect(f"{Path(path).absolute().as_uri()}?mode=ro", uri=True)
     db = sqlite_utils.Database(connection)
-    db.execute("PRAGMA busy_timeout = 30000")
-    version = db.execute("PRAGMA user_version").fetchone()[0]
+    try:
+        db.execute("PRAGMA query_only = ON")
+        db.execute("PRAGMA busy_timeout = 30000")
+        version = db.execute("PRAGMA user_version").fetchone()[0]
+    except sqlite3.DatabaseError as error:
+        db.close()
+        raise StoreNotReadable(f"{path}: not a readable store ({error})") from None
     if version != SCHEMA_VERSION:
         db.close()
-        raise RuntimeError(
+        raise StoreNotReadable(
             f"{path}: store schema version {version}, this program reads version {SCHEMA_VERSION}"
             + (" (open it once for writing to upgrade it)" if version < SCHEMA_VERSION else "")
         )

@@ -63,8 +63,10 @@ class StoreWrites:
                 return existing["id"], False, changes.get("status", existing["status"])
             if segmentation is None:
                 raise ValueError(f"{document.record_key}: a new document needs its segmentation")
+            # "+status": without statistics SQLite would pick the status index and read
+            # every active document on each insert; the hash index finds the few twins.
             twin = self.db.execute(
-                "select id from documents where sha256 = ? and record_key != ? and status = 'active' "
+                "select id from documents where sha256 = ? and record_key != ? and +status = 'active' "
                 "order by id limit 1",
                 [document.sha256, document.record_key],
             ).fetchone()

@@ -14,8 +14,11 @@ from pathlib import Path
 
 import click
 
+from store.errors import SummarizerError
 from store.lock import StoreLocked
 from store.queries import DocumentNotFound
+from store.search import parse_query
+from store.search_queries import MARK_END, MARK_START
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.seq2seq.models import ModelLoadError
@@ -30,9 +33,9 @@ from summarize.runs.runner import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
 from summarize.runs.stopping import StopConditions, parse_until
 
 
-def _fail(message: str) -> None:
+def _fail(message: str, status: int = EXIT_FAILED) -> None:
     click.echo(f"error: {message}", err=True)
-    sys.exit(EXIT_FAILED)
+    sys.exit(status)
 
 
 def _existing(db_path: str) -> str:
@@ -240,22 +243,52 @@ def _run_summary(run_id: int, counts: dict) -> str:
 @main.command()
 @click.argument("query")
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
-@click.option("--method", default=None, help="Only search summaries of this method.")
+@click.option("--method", default=None, help="Only documents summarized by this method (same as method:NAME).")
 @click.option("--limit", default=20, show_default=True, type=click.IntRange(1))
+@click.option("--offset", default=0, show_default=True, type=click.IntRange(0), help="Skip this many hits (paging).")
 @click.option("--json", "as_json", is_flag=True, help="Print hits as JSON.")
-def find(query, db_path, method, limit, as_json):
-    """Search titles, paths and summaries (full-text, stemmed)."""
-    hits = _open_existing(db_path).queries.find(query, limit=limit, method=method)
+def find(query, db_path, method, limit, offset, as_json):
+    """Search document titles, text and summaries, one hit per document, best first.
+
+    QUERY: words (stemmed), "phrases", prefix*, AND / OR / NOT, parentheses, and
+    filters folder:NAME format:EXT from:DATE to:DATE status:STATUS method:NAME
+    has:reference has:flags (see the README).
+    """
+    try:
+        parsed = parse_query(query + (f" method:{method}" if method else ""))
+    except SummarizerError as error:
+        _fail(f"query {query!r}: {error}", error.exit_status)
+    with _open_existing(db_path) as store:
+        page = store.queries.search(parsed, offset=offset, limit=limit)
     if as_json:
-        click.echo(json.dumps([asdict(hit) for hit in hits], indent=2, ensure_ascii=False))
+        hits = [
+            {
+                "document_id": hit.document_id, "record_key": hit.record_key, "title": hit.title, "date": hit.date,
+                "format": hit.format, "status": hit.status,
+                "snippet": _bracketed(hit.snippet),
+                "summary_matches": [{"method": m.method, "snippet": _bracketed(m.snippet)} for m in hit.summary_matches],
+            }
+            for hit in page.hits
+        ]
+        click.echo(json.dumps({"total": page.total, "offset": offset, "hits": hits}, indent=2, ensure_ascii=False))
         return
-    if not hits:
+    if not page.hits:
         click.echo(f"no matches for {query!r}", err=True)
         return
-    for hit in hits:
-        click.echo(f"#{hit.document_id}  {hit.title or '(untitled)'}  [{hit.record_key}]" + (f"  {hit.date}" if hit.date else ""))
-        for match in hit.matches[:3]:
-            click.echo(f"    {match.method or 'title'}: {match.snippet}")
+    for hit in page.hits:
+        status = "" if hit.status == "active" else f"  ({hit.status})"
+        date = f"  {hit.date}" if hit.date else ""
+        click.echo(f"#{hit.document_id}  {hit.title or '(untitled)'}  [{hit.record_key}]{date}{status}")
+        if hit.snippet:
+            click.echo(f"    text: {_bracketed(hit.snippet)}")
+        for match in hit.summary_matches[:3]:
+            click.echo(f"    {match.method}: {_bracketed(match.snippet)}")
+    shown = f"{offset + 1}-{offset + len(page.hits)}"
+    click.echo(f"{shown} of {page.total} documents" + (f"; next: --offset {offset + limit}" if page.total > offset + limit else ""), err=True)
+
+
+def _bracketed(snippet: str | None) -> str | None:
+    return snippet.replace(MARK_START, "[").replace(MARK_END, "]") if snippet else snippet
 
 
 def _print_document(record: dict, highlight: bool) -> None:
@@ -321,12 +354,53 @@ def show(document, db_path, method, highlight, as_json):
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
 @click.option("--format", "fmt", required=True, type=click.Choice(FORMATS))
 @click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False))
-@click.option("--methods", default=None, help="Comma-separated methods to export (default: all).")
-def export(db_path, fmt, out_path, methods):
-    """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file."""
-    chosen = [m.strip() for m in methods.split(",")] if methods else None
-    count = export_summaries(_existing(db_path), fmt, out_path, methods=chosen)
-    click.echo(f"wrote {count} summaries to {out_path}")
+@click.option("--method", default=None, help="The method whose summaries to export (default: the one covering most documents).")
+@click.option("--budget", default=None, help="Its budget: '3', '80w', '10%' or 'reference' (matched).")
+@click.option("--setting", default=None, help="The key of one stored setting, when a method has several at a budget.")
+@click.option("--every-summary", is_flag=True, help="Every stored summary instead: one row per summary.")
+@click.option("--methods", default=None, help="With --every-summary: only these comma-separated methods.")
+@click.option("--include-missing", is_flag=True, help="Also documents whose files are gone from disk.")
+def export(db_path, fmt, out_path, method, budget, setting, every_summary, methods, include_missing):
+    """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file: one row per
+    document for one method at one budget, unless --every-summary."""
+    statuses = ("active", "duplicate", "missing") if include_missing else None
+    chosen = [m.strip() for m in methods.split(",")] if methods and every_summary else None
+    try:
+        count, choice = export_summaries(
+            _existing(db_path), fmt, out_path, method=method, budget=budget, setting=setting,
+            every_summary=every_summary, methods=chosen, statuses=statuses,
+        )
+    except SummarizerError as error:
+        _fail(str(error), error.exit_status)
+    what = f"{choice.label} (setting {choice.key})" if choice else "every stored summary"
+    click.echo(f"wrote {count} rows to {out_path}: {what}")
+
+
+@main.command()
+@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--port", default=0, show_default=True, type=click.IntRange(0, 65535), help="Port (0: a free one).")
+@click.option("--host", default="127.0.0.1", show_default=True,
+              help="Address to listen on; anything but loopback lets other machines read the store.")
+@click.option("--allow-host", "allowed_hosts", multiple=True,
+              help="Another name the site may be reached by (checked against the Host header).")
+def review(db_path, port, host, allowed_hosts):
+    """Serve a read-only review site for the store: search, each document beside its
+    summaries with click-to-source highlighting, the comparison, CSV/JSON Lines
+    downloads. Prints the address and serves until Ctrl-C."""
+    from summarize.output.site.server import ReviewServer
+
+    if not Path(db_path).exists():
+        _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
+    try:
+        ReviewServer(db_path, host=host, port=port, allowed_hosts=tuple(allowed_hosts)).serve(
+            lambda text: click.echo(text, err=True)
+        )
+    except SummarizerError as error:
+        _fail(str(error), error.exit_status)
+    except OSError as error:
+        _fail(f"cannot listen on {host}:{port}: {error.strerror or error}")
+    except KeyboardInterrupt:
+        click.echo("stopped", err=True)
 
 
 @main.command()

@@ -96,12 +96,12 @@ def test_find_returns_documents_whose_summaries_match(demo_store):
     word = _rows(db, "select text from summaries where method = 'lead' limit 1")[0][0].split()[3].strip(".,;:()")
     result = CliRunner().invoke(main, ["find", word, "--db", str(db), "--json"])
     assert result.exit_code == 0, result.output
-    hits = json.loads(result.stdout)
+    hits = json.loads(result.stdout)["hits"]
     assert hits
     for hit in hits:
         ids = [r[0] for r in _rows(db, "select id from documents where id = ?", [hit["document_id"]])]
         assert ids
-    assert any(word.lower() in m["snippet"].lower() for hit in hits for m in hit["matches"])
+    assert any(word.lower() in m["snippet"].lower() for hit in hits for m in hit["summary_matches"])
 
 
 def test_show_gives_the_document_with_summaries_and_spans(demo_store):
@@ -126,10 +126,12 @@ def test_show_gives_the_document_with_summaries_and_spans(demo_store):
 def test_export_writes_every_summary(demo_store, tmp_path, fmt):
     db, _ = demo_store
     out = tmp_path / f"export.{fmt}"
-    result = CliRunner().invoke(main, ["export", "--db", str(db), "--format", fmt, "--out", str(out)])
+    result = CliRunner().invoke(
+        main, ["export", "--db", str(db), "--format", fmt, "--out", str(out), "--every-summary", "--include-missing"]
+    )
     assert result.exit_code == 0, result.output
     expected = _rows(db, "select count(*) from summaries s join documents d on d.id = s.document_id where d.status != 'replaced'")[0][0]
-    content = out.read_text(encoding="utf-8")
+    content = out.read_text(encoding="utf-8-sig")
     if fmt == "csv":
         rows = list(csv.DictReader(content.splitlines()))
         assert len(rows) == expected

@@ -114,7 +114,7 @@ def _system_order(system: SystemResult) -> tuple:
 
 
 def compare(
-    db_path: str,
+    db_path: str | Store,
     measure: str = "f1",
     budget: str | None = None,
     resamples: int = 1000,
@@ -124,15 +124,20 @@ def compare(
     """Per budget and method: mean of each ROUGE metric (``measure`` = f1, precision
     or recall) with a bootstrap interval, the paired difference from lead, and
     extractiveness. ``budget`` keeps one budget: "reference", a number of words, or
-    None for all."""
+    None for all. ``db_path`` may be an open :class:`Store` (the review site's read-only
+    one), which is left open."""
     if measure not in MEASURES:
         raise ValueError(f"measure must be one of {', '.join(MEASURES)}, got {measure!r}")
     wanted = None if budget in (None, "all") else MatchedBudget.parse(budget).label()
     bootstrap = PercentileBootstrap(resamples=resamples, confidence=confidence, seed=seed)
-    with Store(db_path) as store:
+    store = db_path if isinstance(db_path, Store) else Store(db_path)
+    try:
         summaries = store.evaluation.scored()
         sentences = store.evaluation.sentences([s.summary_id for s in summaries])
         documents = store.documents.briefs(sorted({s.document_id for s in summaries}))
+    finally:
+        if store is not db_path:
+            store.close()
 
     grouped: dict[str, dict[tuple[str, str], list[ScoredSummary]]] = defaultdict(lambda: defaultdict(list))
     matched_labels = set()

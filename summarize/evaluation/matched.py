@@ -19,14 +19,13 @@ from dataclasses import dataclass
 
 from store.records import param_hash
 from store.store import Store
+from summarize.evaluation.budget_labels import BUDGET_RULE_KEY, REFERENCE_WORDS, budget_label, is_matched
 from summarize.evaluation.oracle import OracleSummarizer
 from summarize.methods.baselines import RandomSummarizer
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.extractive import EXTRACTIVE_METHODS
 
-# Marks, in a summary's params, a budget set per document from its reference.
-BUDGET_RULE_KEY = "budget_rule"
-REFERENCE_WORDS = "reference-words"
+__all__ = ["BUDGET_RULE_KEY", "REFERENCE_WORDS", "MatchedBudget", "add_matched_summaries", "budget_label", "is_matched"]
 
 SUMMARIZERS = {**EXTRACTIVE_METHODS, "random": RandomSummarizer, "oracle": OracleSummarizer}
 MATCHED_METHODS = ("lead", "tfidf", "textrank", "oracle")
@@ -63,25 +62,6 @@ class MatchedBudget:
 
     def label(self) -> str:
         return budget_label(self.tagged({"budget": {"words": self.words or 1}}))
-
-
-def budget_label(params: dict) -> str:
-    """How long a stored summary was allowed to be, in words a reader understands."""
-    if params.get(BUDGET_RULE_KEY) == REFERENCE_WORDS:
-        return "matched: each reference's length in words"
-    try:
-        return str(Budget(**params["budget"]))
-    except (KeyError, TypeError, ValueError):
-        pass
-    generation = params.get("generation") if isinstance(params.get("generation"), dict) else {}
-    if "max_new_tokens" in generation:
-        low = generation.get("min_new_tokens", 0)
-        return f"the method's own length: {low} to {generation['max_new_tokens']} generated tokens"
-    return "the method's own length setting"
-
-
-def is_matched(params: dict) -> bool:
-    return params.get(BUDGET_RULE_KEY) == REFERENCE_WORDS
 
 
 def _with_budget(method, budget: Budget):

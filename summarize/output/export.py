@@ -1,8 +1,17 @@
 """Export stored summaries as CSV, JSON Lines, Markdown or HTML.
 
-Every format carries the caution (a ``caution`` field per row in CSV and JSON Lines,
-a paragraph at the top of Markdown and HTML). In HTML every string taken from a
-document or a summary is escaped.
+By default one method at one budget and setting is exported (see summary_choice.py),
+so each document gives one row; documents gone from disk and replaced versions are
+left out. Every format carries the caution (a ``caution`` field per row in CSV and
+JSON Lines, a paragraph at the top of Markdown and HTML). In HTML every string taken
+from a document or a summary is escaped.
+
+CSV is written for spreadsheets: UTF-8 with a byte-order mark (without one, a
+spreadsheet may read the file in a legacy code page and garble "m³"), line breaks
+inside cells flattened to spaces, and a cell that begins with ``=``, ``+``, ``-``,
+``@``, a tab or a carriage return is prefixed with an apostrophe so a spreadsheet
+shows it as text instead of running it as a formula (the OWASP "CSV Injection"
+guidance).
 """
 
 from __future__ import annotations
@@ -10,35 +19,54 @@ from __future__ import annotations
 import csv
 import html
 import json
+import re
 from dataclasses import asdict
 from pathlib import Path
 
 from store.exports import ExportRow
 from store.store import Store
+from summarize.evaluation.budget_labels import budget_label
 from summarize.output.caution import CAUTION
+from summarize.output.summary_choice import SummaryChoice, choose_summaries, settings_text
 
 FORMATS = ("csv", "jsonl", "md", "html")
-_CSV_COLUMNS = (
-    "document_id", "record_key", "title", "date", "format", "method", "param_hash",
-    "summary", "source_spans", "flags", "rouge_f1", "reference_summary", "reference_source",
+CSV_COLUMNS = (
+    "document_id", "record_key", "title", "date", "status", "format", "method", "budget", "settings",
+    "param_hash", "summary", "source_spans", "flags", "rouge_f1", "reference_summary", "reference_source",
+    "caution",
 )
+_LINE_BREAKS = re.compile(r"\s*[\r\n\v\f\u0085\u2028\u2029]+\s*")
+_FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def spreadsheet_cell(value):
+    """A CSV cell a spreadsheet shows as written: one line, never a formula."""
+    if not isinstance(value, str):
+        return value
+    if value.startswith(_FORMULA_STARTS):
+        value = "'" + value
+    return _LINE_BREAKS.sub(" ", value)
+
+
+def _labels(row: ExportRow) -> dict:
+    return {"budget": budget_label(row.params), "settings": settings_text(row.params)}
 
 
 def _write_csv(rows: list[ExportRow], out) -> None:
-    writer = csv.DictWriter(out, fieldnames=[*_CSV_COLUMNS, "caution"])
+    writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS)
     writer.writeheader()
     for row in rows:
-        record = {key: getattr(row, key) for key in _CSV_COLUMNS}
+        record = {key: getattr(row, key) for key in CSV_COLUMNS if hasattr(row, key)} | _labels(row)
         for key in ("source_spans", "rouge_f1"):
             record[key] = json.dumps(record[key])
         record["flags"] = "; ".join(row.flags)
         record["caution"] = CAUTION
-        writer.writerow(record)
+        writer.writerow({key: spreadsheet_cell(value) for key, value in record.items()})
 
 
 def _write_jsonl(rows: list[ExportRow], out) -> None:
     for row in rows:
-        out.write(json.dumps(asdict(row) | {"caution": CAUTION}, ensure_ascii=False) + "\n")
+        out.write(json.dumps(asdict(row) | _labels(row) | {"caution": CAUTION}, ensure_ascii=False) + "\n")
 
 
 def _markdown_cell(value: str | None) -> str:
@@ -104,15 +132,51 @@ def _write_html(rows: list[ExportRow], out) -> None:
 
 
 _WRITERS = {"csv": _write_csv, "jsonl": _write_jsonl, "md": _write_markdown, "html": _write_html}
+# The byte-order mark tells a spreadsheet the file is UTF-8.
+_ENCODINGS = {"csv": "utf-8-sig"}
 
 
-def export(db_path: str, format: str, out_path: str | Path, methods: list[str] | None = None) -> int:
-    """Write every stored summary (optionally only ``methods``) to ``out_path``;
-    returns the number of summaries written."""
+def selected_rows(
+    store: Store,
+    choice: SummaryChoice | None,
+    methods: list[str] | None = None,
+    document_ids: list[int] | None = None,
+    statuses: tuple[str, ...] | None = None,
+) -> list[ExportRow]:
+    """The rows of ``choice`` (None: every stored summary, of ``methods`` if given)."""
+    return store.exports.rows(
+        methods=[choice.method] if choice else methods,
+        param_hashes=list(choice.param_hashes) if choice else None,
+        document_ids=document_ids,
+        **({"statuses": statuses} if statuses else {}),
+    )
+
+
+def write_rows(rows: list[ExportRow], format: str, out) -> None:
+    """Write export rows to the text stream ``out`` in ``format``."""
     if format not in _WRITERS:
         raise ValueError(f"unknown export format {format!r} (expected one of {', '.join(FORMATS)})")
+    _WRITERS[format](rows, out)
+
+
+def export(
+    db_path: str,
+    format: str,
+    out_path: str | Path,
+    method: str | None = None,
+    budget: str | None = None,
+    setting: str | None = None,
+    every_summary: bool = False,
+    methods: list[str] | None = None,
+    statuses: tuple[str, ...] | None = None,
+) -> tuple[int, SummaryChoice | None]:
+    """Write one row per document for the summaries chosen by ``method``, ``budget``
+    and ``setting`` (see summary_choice.py; by default the choice covering the most
+    documents), or with ``every_summary`` every stored summary (of ``methods`` if
+    given), to ``out_path``. Returns the number of rows written and the choice."""
     with Store(db_path, read_only=True) as store:
-        rows = store.exports.rows(methods)
-    with open(out_path, "w", encoding="utf-8", newline="") as out:
-        _WRITERS[format](rows, out)
+        choice = None if every_summary else choose_summaries(store, method=method, budget=budget, key=setting)
+        rows = selected_rows(store, choice, methods=methods, statuses=statuses)
+    with open(out_path, "w", encoding=_ENCODINGS.get(format, "utf-8"), newline="") as out:
+        write_rows(rows, format, out)
     return len(rows)

@@ -66,7 +66,7 @@ def _metrics(group: BudgetGroup) -> list[str]:
     return [m for m in METRICS if any(m in s.scores for s in group.systems)]
 
 
-def _table(group: BudgetGroup, comparison: Comparison) -> str:
+def comparison_tables(group: BudgetGroup, comparison: Comparison) -> str:
     metrics = _metrics(group)
     head = "".join(f"<th>{METRIC_LABELS[m]}</th>" for m in metrics)
     rows = []
@@ -108,7 +108,7 @@ def _table(group: BudgetGroup, comparison: Comparison) -> str:
     return table
 
 
-def _score_chart(group: BudgetGroup, comparison: Comparison) -> str:
+def score_chart(group: BudgetGroup, comparison: Comparison) -> str:
     metrics = _metrics(group)
     figure = Figure(figsize=(8, 3.6), dpi=100)
     axes = figure.add_subplot()
@@ -133,7 +133,7 @@ def _score_chart(group: BudgetGroup, comparison: Comparison) -> str:
     return _png(figure)
 
 
-def _length_chart(group: BudgetGroup, comparison: Comparison) -> str:
+def length_chart(group: BudgetGroup, comparison: Comparison) -> str:
     figure = Figure(figsize=(8, 3.2), dpi=100)
     axes = figure.add_subplot()
     documents = sorted({d for s in group.systems for d in s.per_document})
@@ -165,7 +165,7 @@ def _highlighted(text: str, picked: list[tuple[int, int]], bound: list[tuple[int
     return "".join(pieces)
 
 
-def _featured(group: BudgetGroup) -> SystemResult | None:
+def featured_system(group: BudgetGroup) -> SystemResult | None:
     """The method whose examples are shown: the best by mean of its ROUGE means."""
     systems = [s for s in group.systems if not s.is_upper_bound and s.scores]
     if not systems:
@@ -173,18 +173,25 @@ def _featured(group: BudgetGroup) -> SystemResult | None:
     return max(systems, key=lambda s: (np.mean([i.estimate for i in s.scores.values()]), s.name))
 
 
-def _examples(store: Store, group: BudgetGroup, count: int) -> str:
-    featured = _featured(group)
-    if featured is None:
-        return ""
-    oracle = next((s for s in group.systems if s.is_upper_bound), None)
+def best_and_worst(featured: SystemResult, count: int) -> tuple[list[int], list[int]]:
+    """Document ids of the ``count`` best- and worst-scored documents of a method, by the
+    mean of its ROUGE values (ties by id); a document is never in both lists."""
     metrics = [m for m in METRICS if m in featured.scores]
     ranked = sorted(
         featured.per_document,
         key=lambda d: (-np.mean([featured.per_document[d][m] for m in metrics]), d),
     )
     best = ranked[:count]
-    worst = [d for d in ranked[::-1][:count] if d not in best]
+    return best, [d for d in ranked[::-1][:count] if d not in best]
+
+
+def _examples(store: Store, group: BudgetGroup, count: int) -> str:
+    featured = featured_system(group)
+    if featured is None:
+        return ""
+    oracle = next((s for s in group.systems if s.is_upper_bound), None)
+    metrics = [m for m in METRICS if m in featured.scores]
+    best, worst = best_and_worst(featured, count)
     documents = store.documents.briefs(best + worst)
     parts = [
         f"<h2>Best- and worst-scored documents — {escape(featured.name)}, budget: {escape(group.budget)}</h2>",
@@ -242,9 +249,9 @@ def report(
     for group in comparison.groups:
         parts += [
             f"<h2>Budget: {escape(group.budget)}</h2>",
-            _table(group, comparison),
-            f"<img alt='Mean ROUGE per method, {escape(group.budget)}' src='{_score_chart(group, comparison)}'>",
-            f"<img alt='Summary lengths, {escape(group.budget)}' src='{_length_chart(group, comparison)}'>",
+            comparison_tables(group, comparison),
+            f"<img alt='Mean ROUGE per method, {escape(group.budget)}' src='{score_chart(group, comparison)}'>",
+            f"<img alt='Summary lengths, {escape(group.budget)}' src='{length_chart(group, comparison)}'>",
         ]
     if comparison.groups:
         with Store(db_path) as store:

@@ -1,0 +1,250 @@
+"""Running a parsed search query (store/search.py) against the store.
+
+Two full-text indexes are searched: the documents' (title, record key, text) and the
+summaries' (only summaries with generated sentences find documents: an extractive
+summary's sentences are spans of its document's text, already searched). Hits are grouped by document (one hit per document); title and record-key matches weigh more than text matches (bm25 column
+weights), so a report whose title carries a number ranks above minutes that mention
+it. Snippets are made only for the page of hits being shown, with line breaks
+flattened; the match markers are ``MARK_START`` / ``MARK_END`` (private-use
+characters), for the caller to render as it likes.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from dataclasses import dataclass, field
+
+import sqlite_utils
+
+from store.schema import SEARCH_DOCUMENTS_INDEX, SEARCH_SUMMARIES_INDEX, VERBATIM_SIMILARITY
+from store.search import Filters, ParsedQuery
+
+MARK_START = "\ue000"
+MARK_END = "\ue001"
+# bm25 weights of the document index's columns: title, record key, text.
+_COLUMN_WEIGHTS = (10.0, 6.0, 1.0)
+# bm25 values of two indexes are not on one scale: a document ranks by its own match
+# when it has one, and by its best summary match, damped, when only a summary matched
+# (a generated sentence can hold words its source does not).
+_SUMMARY_ONLY_WEIGHT = 0.5
+# Evaluation artefacts, not summaries anyone reads: never search hits.
+_NOT_SEARCHED_METHODS = ("oracle", "random")
+_SNIPPET_TOKENS = 14
+_BLANKS = re.compile(r"\s+")
+
+
+@dataclass
+class SummaryMatch:
+    method: str
+    params: dict
+    snippet: str
+
+
+@dataclass
+class SearchHit:
+    document_id: int
+    record_key: str
+    path: str
+    title: str | None
+    date: str | None
+    format: str
+    status: str
+    score: float | None
+    snippet: str | None = None
+    summary_matches: list[SummaryMatch] = field(default_factory=list)
+
+
+@dataclass
+class SearchPage:
+    hits: list[SearchHit]
+    total: int
+    offset: int
+    limit: int
+
+
+def _filter_sql(filters: Filters) -> tuple[str, list]:
+    clauses, params = [], []
+    if filters.statuses:
+        clauses.append(f"d.status in ({', '.join('?' for _ in filters.statuses)})")
+        params += filters.statuses
+    else:
+        clauses.append("d.status != 'replaced'")
+    for folder in filters.folders:
+        # A folder of that name anywhere on the path (paths are stored absolute).
+        clauses.append("(instr(d.path, ?) > 0 or substr(d.path, 1, ?) = ?)")
+        params += [f"/{folder}/", len(folder) + 1, f"{folder}/"]
+    if filters.formats:
+        clauses.append(f"lower(d.format) in ({', '.join('?' for _ in filters.formats)})")
+        params += filters.formats
+    if filters.date_from:
+        clauses.append("d.date >= ?")
+        params.append(filters.date_from)
+    if filters.date_to:
+        clauses.append("substr(d.date, 1, ?) <= ?")
+        params += [len(filters.date_to), filters.date_to]
+    if filters.methods:
+        clauses.append(
+            "exists (select 1 from summaries m where m.document_id = d.id "
+            f"and m.method in ({', '.join('?' for _ in filters.methods)}))"
+        )
+        params += filters.methods
+    if filters.has_reference:
+        clauses.append("exists (select 1 from reference_summaries r where r.document_id = d.id)")
+    if filters.has_flags:
+        clauses.append(
+            "exists (select 1 from summaries fs join flags f on f.summary_id = fs.id where fs.document_id = d.id)"
+        )
+    return " and ".join(clauses), params
+
+
+def _summary_method_sql(filters: Filters) -> tuple[str, list]:
+    if filters.methods:
+        return f"s.method in ({', '.join('?' for _ in filters.methods)})", list(filters.methods)
+    return f"s.method not in ({', '.join('?' for _ in _NOT_SEARCHED_METHODS)})", list(_NOT_SEARCHED_METHODS)
+
+
+def search_documents(
+    db: sqlite_utils.Database, query: ParsedQuery, offset: int = 0, limit: int = 20, snippets: bool = True
+) -> SearchPage:
+    """One page of documents matching ``query``, best first, with the total count
+    (``limit=-1``: every match; ``snippets=False``: without snippets)."""
+    where, where_params = _filter_sql(query.filters)
+    columns = "d.id, d.record_key, d.path, d.title, d.date, d.format, d.status"
+    documents = f"documents d indexed by {SEARCH_DOCUMENTS_INDEX}"
+    if query.match is None:
+        sql = (
+            f"select {columns}, null, count(*) over () from {documents} where {where} "
+            "order by d.date is null, d.date desc, d.id desc limit ? offset ?"
+        )
+        rows = db.execute(sql, [*where_params, limit, offset]).fetchall()
+    else:
+        method_sql, method_params = _summary_method_sql(query.filters)
+        weights = ", ".join(str(w) for w in _COLUMN_WEIGHTS)
+        # "pump NOT diesel" must not find, through a summary, a document that mentions diesel.
+        excluded_sql, excluded_params = "", []
+        if query.excluded:
+            excluded_sql = "and s.document_id not in (select rowid from documents_fts where documents_fts match ?)"
+            excluded_params = [query.excluded]
+        if query.filters.is_empty():
+            # Only the default filter: leaving out the few replaced versions needs no
+            # look-up per hit.
+            ranked_sql = (
+                "select document_id, score from best where document_id not in "
+                "(select id from documents where status = 'replaced')"
+            )
+            where_params = []
+        else:
+            ranked_sql = (
+                f"select best.document_id, best.score from best join {documents} on d.id = best.document_id "
+                f"where {where}"
+            )
+        # A document matched by its own text ranks by that match; one matched only
+        # through a summary ranks by its best summary match, damped.
+        sql = f"""
+            with text_hits(document_id, score) as materialized (
+                select rowid, bm25(documents_fts, {weights}) from documents_fts where documents_fts match ?
+            ),
+            summary_matches(document_id, score) as (
+                select s.document_id, bm25(summaries_fts) from summaries_fts
+                join summaries s indexed by {SEARCH_SUMMARIES_INDEX} on s.id = summaries_fts.rowid
+                where summaries_fts match ? and {method_sql} {excluded_sql}
+                and summaries_fts.rowid in (
+                    select summary_id from sentence_sources where similarity < {VERBATIM_SIMILARITY})
+            ),
+            best(document_id, score) as (
+                select document_id, score from text_hits
+                union all
+                select document_id, {_SUMMARY_ONLY_WEIGHT} * min(score) from summary_matches
+                where document_id not in (select document_id from text_hits)
+                group by document_id
+            ),
+            ranked(document_id, score) as materialized ({ranked_sql})
+            select (select count(*) from ranked), document_id, score from ranked
+            order by score, document_id limit ? offset ?
+        """
+        ranked = db.execute(
+            sql, [query.match, query.match, *method_params, *excluded_params, *where_params, limit, offset]
+        ).fetchall()
+        rows = _listed(db, columns, documents, ranked)
+    hits = [SearchHit(*row[:8]) for row in rows]
+    total = rows[0][8] if rows else _count(db, query, offset)
+    if query.match is not None and snippets:
+        for hit in hits:
+            _add_snippets(db, hit, query)
+    return SearchPage(hits=hits, total=total, offset=offset, limit=limit)
+
+
+def _listed(db: sqlite_utils.Database, columns: str, documents: str, ranked: list[tuple]) -> list[tuple]:
+    """Rows of (columns..., score, total) for a page of ranked ``(total, id, score)``."""
+    if not ranked:
+        return []
+    found = {
+        row[0]: row
+        for row in db.execute(
+            f"select {columns} from {documents} where d.id in (select value from json_each(?))",
+            [json.dumps([row[1] for row in ranked])],
+        )
+    }
+    return [(*found[document_id], score, total) for total, document_id, score in ranked]
+
+
+def _count(db: sqlite_utils.Database, query: ParsedQuery, offset: int) -> int:
+    """The total when the page asked for is past the end (no row carried the count)."""
+    if offset == 0:
+        return 0
+    return search_documents(db, query, offset=0, limit=1).total
+
+
+def flatten(text: str) -> str:
+    """Whitespace runs (line breaks included) as single spaces."""
+    return _BLANKS.sub(" ", text).strip()
+
+
+def _add_snippets(db: sqlite_utils.Database, hit: SearchHit, query: ParsedQuery) -> None:
+    row = db.execute(
+        f"select snippet(documents_fts, -1, ?, ?, ' … ', {_SNIPPET_TOKENS}) from documents_fts "
+        "where documents_fts match ? and rowid = ?",
+        [MARK_START, MARK_END, query.match, hit.document_id],
+    ).fetchone()
+    if row and MARK_START in row[0]:
+        hit.snippet = flatten(row[0])
+    method_sql, method_params = _summary_method_sql(query.filters)
+    summaries = db.execute(
+        f"select s.id, s.method, s.params from summaries s where s.document_id = ? and {method_sql} "
+        "order by s.method, s.id",
+        [hit.document_id, *method_params],
+    ).fetchall()
+    seen_methods = set()
+    for summary_id, method, params in summaries:
+        # One snippet per method: every budget of a method says much the same.
+        if method in seen_methods:
+            continue
+        found = db.execute(
+            f"select snippet(summaries_fts, 0, ?, ?, ' … ', {_SNIPPET_TOKENS}) from summaries_fts "
+            "where summaries_fts match ? and rowid = ?",
+            [MARK_START, MARK_END, query.match, summary_id],
+        ).fetchone()
+        if found:
+            seen_methods.add(method)
+            hit.summary_matches.append(SummaryMatch(method, json.loads(params), flatten(found[0])))
+
+
+@dataclass
+class DocumentHeading:
+    id: int
+    title: str | None
+    record_key: str
+
+
+def document_heading(db: sqlite_utils.Database, document_id: int) -> DocumentHeading | None:
+    row = db.execute("select id, title, record_key from documents where id = ?", [document_id]).fetchone()
+    return DocumentHeading(*row) if row else None
+
+
+def document_formats(db: sqlite_utils.Database) -> list[str]:
+    return [row[0] for row in db.execute("select distinct format from documents order by format")]
+
+
+def summary_methods(db: sqlite_utils.Database) -> list[str]:
+    return [row[0] for row in db.execute("select distinct method from summaries order by method")]
