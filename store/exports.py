@@ -12,7 +12,6 @@ import sqlite_utils
 from store.references import References
 from store.summary_details import SentenceRead, load_summary_details
 
-
 EXPORTED_STATUSES = ("active", "duplicate")
 
 

@@ -69,3 +69,9 @@ class References:
                 "where d.status = 'active' order by d.id"
             )
         ]
+
+
+def has_reference_condition(document_alias: str = "d") -> str:
+    """A SQL condition, true when the document ``document_alias`` has a reference
+    summary (for search filters: this module stays the one reader of the table)."""
+    return f"exists (select 1 from reference_summaries r where r.document_id = {document_alias}.id)"

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 
 import sqlite_utils
 
+from store.references import has_reference_condition
 from store.schema import SEARCH_DOCUMENTS_INDEX, SEARCH_SUMMARIES_INDEX, VERBATIM_SIMILARITY
 from store.search import Filters, ParsedQuery
 
@@ -90,7 +91,7 @@ def _filter_sql(filters: Filters) -> tuple[str, list]:
         )
         params += filters.methods
     if filters.has_reference:
-        clauses.append("exists (select 1 from reference_summaries r where r.document_id = d.id)")
+        clauses.append(has_reference_condition("d"))
     if filters.has_flags:
         clauses.append(
             "exists (select 1 from summaries fs join flags f on f.summary_id = fs.id where fs.document_id = d.id)"

@@ -9,7 +9,6 @@ from __future__ import annotations
 import json
 import sys
 import textwrap
-from dataclasses import asdict
 from pathlib import Path
 
 import click

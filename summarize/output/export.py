@@ -179,4 +179,4 @@ def export(
         rows = selected_rows(store, choice, methods=methods, statuses=statuses)
     with open(out_path, "w", encoding=_ENCODINGS.get(format, "utf-8"), newline="") as out:
         write_rows(rows, format, out)
-    return len(rows)
+    return len(rows), choice
