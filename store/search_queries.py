@@ -115,58 +115,51 @@ def search_documents(
     documents = f"documents d indexed by {SEARCH_DOCUMENTS_INDEX}"
     if query.match is None:
         sql = (
-            f"select {columns}, null, count(*) over () from {documents} where {where} "
-            "order by d.date is null, d.date desc, d.id desc limit ? offset ?"
+            f"with listed(document_id, date) as materialized (select d.id, d.date from {documents} where {where}) "
+            "select (select count(*) from listed), document_id, null from listed "
+            "order by date is null, date desc, document_id desc limit ? offset ?"
         )
-        rows = db.execute(sql, [*where_params, limit, offset]).fetchall()
+        rows = _listed(db, columns, documents, db.execute(sql, [*where_params, limit, offset]).fetchall())
     else:
-        method_sql, method_params = _summary_method_sql(query.filters)
+        extra = _summary_only_hits(db, query)
         weights = ", ".join(str(w) for w in _COLUMN_WEIGHTS)
-        # "pump NOT diesel" must not find, through a summary, a document that mentions diesel.
-        excluded_sql, excluded_params = "", []
-        if query.excluded:
-            excluded_sql = "and s.document_id not in (select rowid from documents_fts where documents_fts match ?)"
-            excluded_params = [query.excluded]
         if query.filters.is_empty():
-            # Only the default filter: leaving out the few replaced versions needs no
-            # look-up per hit.
-            ranked_sql = (
-                "select document_id, score from best where document_id not in "
-                "(select id from documents where status = 'replaced')"
-            )
-            where_params = []
+            # Only the default filter: leaving out the few replaced versions (if any)
+            # needs no look-up per hit.
+            text_join, text_where, text_params = "", "", []
+            if db.execute("select 1 from documents where status = 'replaced' limit 1").fetchone():
+                text_where = "and documents_fts.rowid not in (select id from documents where status = 'replaced')"
         else:
-            ranked_sql = (
-                f"select best.document_id, best.score from best join {documents} on d.id = best.document_id "
-                f"where {where}"
-            )
-        # A document matched by its own text ranks by that match; one matched only
-        # through a summary ranks by its best summary match, damped.
-        sql = f"""
-            with text_hits(document_id, score) as materialized (
-                select rowid, bm25(documents_fts, {weights}) from documents_fts where documents_fts match ?
-            ),
-            summary_matches(document_id, score) as (
-                select s.document_id, bm25(summaries_fts) from summaries_fts
-                join summaries s indexed by {SEARCH_SUMMARIES_INDEX} on s.id = summaries_fts.rowid
-                where summaries_fts match ? and {method_sql} {excluded_sql}
-                and summaries_fts.rowid in (
-                    select summary_id from sentence_sources where similarity < {VERBATIM_SIMILARITY})
-            ),
-            best(document_id, score) as (
-                select document_id, score from text_hits
-                union all
-                select document_id, {_SUMMARY_ONLY_WEIGHT} * min(score) from summary_matches
-                where document_id not in (select document_id from text_hits)
-                group by document_id
-            ),
-            ranked(document_id, score) as materialized ({ranked_sql})
-            select (select count(*) from ranked), document_id, score from ranked
-            order by score, document_id limit ? offset ?
-        """
-        ranked = db.execute(
-            sql, [query.match, query.match, *method_params, *excluded_params, *where_params, limit, offset]
-        ).fetchall()
+            # Filters in the same query: bm25 is computed only for the hits that pass them.
+            text_join = f"join {documents} on d.id = documents_fts.rowid"
+            text_where, text_params = f"and {where}", where_params
+        extra_sql = (
+            "with extra(document_id, score) as "
+            "(select json_extract(value, '$[0]'), json_extract(value, '$[1]') from json_each(?)) "
+        )
+        from_text = f"from documents_fts {text_join} where documents_fts match ? {text_where}"
+        from_extra = f"from extra join {documents} on d.id = extra.document_id where {where}"
+        params = [json.dumps(extra), query.match, *text_params, *where_params]
+        hits_sql = (
+            f"select documents_fts.rowid, bm25(documents_fts, {weights}) {from_text} "
+            f"union all select extra.document_id, extra.score {from_extra}"
+        )
+        if query.filters.is_empty():
+            # Counting needs no ranking and the page only the best few: two queries
+            # cost less than ranking every hit into a list kept for both.
+            total = db.execute(
+                f"{extra_sql} select (select count(*) {from_text}) + (select count(*) {from_extra})", params
+            ).fetchone()[0]
+            page = db.execute(f"{extra_sql} {hits_sql} order by 2, 1 limit ? offset ?", [*params, limit, offset])
+            ranked = [(total, document_id, score) for document_id, score in page]
+        else:
+            # With filters, looking each hit up is the larger cost: once, for both.
+            ranked = db.execute(
+                f"{extra_sql}, ranked(document_id, score) as materialized ({hits_sql}) "
+                "select (select count(*) from ranked), document_id, score from ranked "
+                "order by score, document_id limit ? offset ?",
+                [*params, limit, offset],
+            ).fetchall()
         rows = _listed(db, columns, documents, ranked)
     hits = [SearchHit(*row[:8]) for row in rows]
     total = rows[0][8] if rows else _count(db, query, offset)
@@ -174,6 +167,30 @@ def search_documents(
         for hit in hits:
             _add_snippets(db, hit, query)
     return SearchPage(hits=hits, total=total, offset=offset, limit=limit)
+
+
+def _summary_only_hits(db: sqlite_utils.Database, query: ParsedQuery) -> list[list]:
+    """``[document_id, score]`` of the documents that only a generated summary matches
+    (their own text does not), scored by their best summary match, damped."""
+    method_sql, method_params = _summary_method_sql(query.filters)
+    # "pump NOT diesel" must not find, through a summary, a document that mentions diesel.
+    excluded_sql, excluded_params = "", []
+    if query.excluded:
+        excluded_sql = "and s.document_id not in (select rowid from documents_fts where documents_fts match ?)"
+        excluded_params = [query.excluded]
+    best: dict[int, float] = {}
+    for document_id, score in db.execute(
+        f"""
+        select s.document_id, bm25(summaries_fts) from summaries_fts
+        join summaries s indexed by {SEARCH_SUMMARIES_INDEX} on s.id = summaries_fts.rowid
+        where summaries_fts match ? and {method_sql} {excluded_sql}
+        and summaries_fts.rowid in (select summary_id from sentence_sources where similarity < {VERBATIM_SIMILARITY})
+        and s.document_id not in (select rowid from documents_fts where documents_fts match ?)
+        """,
+        [query.match, *method_params, *excluded_params, query.match],
+    ):
+        best[document_id] = min(score, best.get(document_id, score))
+    return [[document_id, _SUMMARY_ONLY_WEIGHT * score] for document_id, score in best.items()]
 
 
 def _listed(db: sqlite_utils.Database, columns: str, documents: str, ranked: list[tuple]) -> list[tuple]:
