@@ -14,6 +14,16 @@ One file holds everything, readable with any SQLite tool:
     scores               ROUGE and other metrics per summary
     learned_models       trained sentence scorers (version 2): the fitted model,
                          what it was trained on, and its cross-validated scores
+    aspect_summaries     answers to aspects per (document, aspect, method, parameter
+                         hash), with a confidence; ``addressed = 0`` and no sentences
+                         when the document does not address the aspect
+    aspect_sentences     the spans of each aspect summary, in order
+    digests              summaries across a selection of documents: the selection,
+                         the settings, the documents it resolved to; one row per
+                         version of a named digest
+    digest_sentences     each digest sentence, in order
+    digest_citations     the document span(s) behind each digest sentence (merged
+                         near-duplicates keep every citation)
 
 Full-text search (FTS5) covers document titles, record keys and text (version 3)
 and summary texts.
@@ -28,7 +38,7 @@ import sqlite_utils
 
 from store.errors import StoreNotReadable
 
-SCHEMA_VERSION = 3
+SCHEMA_VERSION = 4
 
 
 def _create_v1(db: sqlite_utils.Database) -> None:
@@ -203,7 +213,65 @@ def _create_v3(db: sqlite_utils.Database) -> None:
     )
 
 
-MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3}
+
+def _create_aspects_and_digests(db: sqlite_utils.Database) -> None:
+    """Aspect summaries per document and digests across documents, with provenance:
+    every sentence is a span into a stored document's text."""
+    db["aspect_summaries"].create(
+        {
+            "id": int,
+            "document_id": int,
+            "aspect": str,
+            "method": str,
+            "param_hash": str,
+            "params": str,
+            "addressed": int,
+            "confidence": float,
+            "details": str,
+            "run_id": int,
+            "created": str,
+        },
+        pk="id",
+        foreign_keys=[("document_id", "documents", "id"), ("run_id", "runs", "id")],
+    )
+    db["aspect_summaries"].create_index(["document_id", "aspect", "method", "param_hash"], unique=True)
+    db["aspect_summaries"].create_index(["aspect", "method", "param_hash"])
+    db["aspect_sentences"].create(
+        {"aspect_summary_id": int, "position": int, "start": int, "end": int, "score": float},
+        pk=("aspect_summary_id", "position"),
+        foreign_keys=[("aspect_summary_id", "aspect_summaries", "id")],
+    )
+    db["digests"].create(
+        {
+            "id": int,
+            "name": str,
+            "version": int,
+            "selection": str,
+            "settings": str,
+            "documents": str,
+            "fingerprint": str,
+            "details": str,
+            "run_id": int,
+            "created": str,
+        },
+        pk="id",
+        foreign_keys=[("run_id", "runs", "id")],
+    )
+    db["digests"].create_index(["name", "version"], unique=True)
+    db["digest_sentences"].create(
+        {"digest_id": int, "position": int, "score": float},
+        pk=("digest_id", "position"),
+        foreign_keys=[("digest_id", "digests", "id")],
+    )
+    db["digest_citations"].create(
+        {"digest_id": int, "position": int, "rank": int, "document_id": int, "start": int, "end": int,
+         "similarity": float},
+        pk=("digest_id", "position", "rank"),
+        foreign_keys=[("digest_id", "digests", "id"), ("document_id", "documents", "id")],
+    )
+
+
+MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3, 4: _create_aspects_and_digests}
 
 
 def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:

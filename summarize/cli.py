@@ -73,7 +73,7 @@ def _load_job_defaults(ctx, _param, value):
         job = load_job(value)
     except ValueError as error:
         raise click.BadParameter(str(error)) from None
-    ctx.default_map = {**(ctx.default_map or {}), **{k: v for k, v in job.items() if k not in ("paths", "seq2seq")}}
+    ctx.default_map = {**(ctx.default_map or {}), **{k: v for k, v in job.items() if k not in ("paths", "seq2seq", "aspects")}}
     ctx.meta["job"] = job
     return value
 
@@ -557,3 +557,10 @@ def choose(db_path, folds, seed, wait_lock, as_json):
         for name, value in sorted(decision.scores.items(), key=lambda item: -item[1]):
             click.echo(f"    {name:<12} {100 * value:6.2f}")
     click.echo(f"\n{CAUTION}")
+
+
+# Aspect summaries and digests live in their own module.
+from summarize.answer_commands import COMMANDS as _ANSWER_COMMANDS  # noqa: E402
+
+for _command in _ANSWER_COMMANDS:
+    main.add_command(_command)

@@ -50,27 +50,41 @@ def top_k_symmetric(
 
 
 def pagerank(
-    weights: sparse.spmatrix, damping: float = 0.85, tolerance: float = 1e-10, max_iterations: int = 200
+    weights: sparse.spmatrix,
+    damping: float = 0.85,
+    tolerance: float = 1e-10,
+    max_iterations: int = 200,
+    teleport: np.ndarray | None = None,
 ) -> np.ndarray:
     """Weighted PageRank by power iteration (Brin & Page 1998).
 
-    ``PR = (1 − d)/n + d · (Mᵀ PR + dangling mass / n)`` where ``M`` is ``weights``
-    with each row divided by its sum; rows summing to zero (no edges) spread their
-    rank uniformly, as networkx's ``pagerank`` does. Stops when the l1 change falls
-    below ``n · tolerance``.
+    ``PR = (1 − d) · v + d · (Mᵀ PR + dangling mass · v)`` where ``M`` is ``weights``
+    with each row divided by its sum and ``v`` the teleport distribution (uniform
+    ``1/n`` unless ``teleport`` is given; it is normalised to sum to 1). Rows summing
+    to zero (no edges) spread their rank by ``v``, as networkx's ``pagerank`` does with
+    its ``personalization`` argument. A non-uniform ``v`` is personalised (biased)
+    PageRank (Haveliwala 2002), which query-biased LexRank builds on. Stops when the
+    l1 change falls below ``n · tolerance``.
     """
     n = weights.shape[0]
     if n == 0:
         return np.zeros(0)
+    if teleport is None:
+        jump = np.full(n, 1.0 / n)
+    else:
+        jump = np.asarray(teleport, dtype=float)
+        if jump.shape != (n,) or jump.min() < 0 or jump.sum() <= 0:
+            raise ValueError("teleport must hold one non-negative weight per node, not all zero")
+        jump = jump / jump.sum()
     weights = sparse.csr_matrix(weights, dtype=float)
     out_weight = np.asarray(weights.sum(axis=1)).ravel()
     dangling = out_weight == 0
     inverse = np.divide(1.0, out_weight, out=np.zeros(n), where=~dangling)
     transition_t = (sparse.diags(inverse) @ weights).T.tocsr()
-    rank = np.full(n, 1.0 / n)
+    rank = jump.copy()
     for _ in range(max_iterations):
         previous = rank
-        rank = damping * (transition_t @ rank + previous[dangling].sum() / n) + (1 - damping) / n
+        rank = damping * (transition_t @ rank + previous[dangling].sum() * jump) + (1 - damping) * jump
         if np.abs(rank - previous).sum() < n * tolerance:
             break
     return rank

@@ -12,7 +12,7 @@ from __future__ import annotations
 import hashlib
 import json
 
-from store.records import Document, Span
+from store.records import Document, Segmentation, Span
 
 ACLSUM_SPLITS = ("train", "val", "test")
 
@@ -86,3 +86,76 @@ def load_aclsum(split: str | None = None, limit: int | None = None) -> list[Docu
                 )
             )
     return documents
+
+
+ACLSUM_ASPECTS = ("challenge", "approach", "outcome")
+ACLSUM_SECTIONS = ("abstract", "introduction", "conclusion")
+
+
+def load_aclsum_aspects(split: str, limit: int | None = None) -> list[Document]:
+    """ACLSum papers as the aspect task sees them: the package's own sentences of the
+    abstract, introduction and conclusion (each section under a heading line, one
+    sentence per line, so spans match the package's segmentation), with the three
+    aspect summaries (challenge, approach, outcome) as metadata fields of those
+    names. No generic reference summary is set."""
+    from aclsum import ACLSum
+
+    if split not in ACLSUM_SPLITS:
+        raise ValueError(f"ACLSum split must be one of {', '.join(ACLSUM_SPLITS)}, got {split!r}")
+    documents: list[Document] = []
+    for paper in ACLSum(split):
+        if limit is not None and len(documents) >= limit:
+            break
+        lines: list[str] = []
+        headings: list[Span] = []
+        offset = 0
+        for section in ACLSUM_SECTIONS:
+            sentences = [" ".join(s.split()) for s in paper.sentences[section] if s.strip()]
+            if not sentences:
+                continue
+            heading = section.title()
+            headings.append(Span(offset, offset + len(heading)))
+            for line in (heading, *sentences):
+                lines.append(line)
+                offset += len(line) + 1
+        text = "\n".join(lines)
+        raw = json.dumps({"id": paper.id, "sentences": paper.sentences}, sort_keys=True).encode("utf-8")
+        documents.append(
+            Document(
+                record_key=f"aclsum-aspects/{split}/{paper.id}",
+                path=f"aclsum/{split}/{paper.id}",
+                text=text,
+                format="aclsum-sentences",
+                sha256=hashlib.sha256(raw).hexdigest(),
+                size=len(raw),
+                title=paper.title,
+                encoding="utf-8",
+                headings=headings,
+                metadata={"dataset": "ACLSum", "split": split, "anthology_id": paper.id}
+                | {aspect: paper.summaries[aspect] for aspect in ACLSUM_ASPECTS},
+            )
+        )
+    return documents
+
+
+def line_segmentation(document: Document) -> Segmentation:
+    """One sentence per line (the package's own sentence split), one paragraph per
+    section; heading lines marked."""
+    heading_starts = {span.start for span in document.headings}
+    sentences, owners, is_heading, paragraphs = [], [], [], []
+    offset = 0
+    for line in document.text.split("\n"):
+        span = Span(offset, offset + len(line))
+        offset += len(line) + 1
+        if span.start in heading_starts or not paragraphs:
+            paragraphs.append([span.start, span.end])
+        paragraphs[-1][1] = span.end
+        sentences.append(span)
+        owners.append(len(paragraphs) - 1)
+        is_heading.append(span.start in heading_starts)
+    return Segmentation(
+        paragraphs=tuple(Span(*bounds) for bounds in paragraphs),
+        sentences=tuple(sentences),
+        sentence_paragraph=tuple(owners),
+        sentence_is_heading=tuple(is_heading),
+    )

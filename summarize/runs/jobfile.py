@@ -13,6 +13,10 @@
     model = "/models/flan-t5-small"
     profile = "fast"
 
+    [aspects.cause]              # the analyst's own aspects (summarize aspects --job)
+    question = "What caused it?"
+    phrases = ["root cause", "because", "due to"]
+
 Keys are the long option names of ``summarize run`` with dashes written as
 underscores; a flag given on the command line overrides the job file.
 """
@@ -40,6 +44,7 @@ RUN_KEYS = {
     "date_field": str,
     "id_field": str,
     "seq2seq": dict,
+    "aspects": dict,
 }
 
 

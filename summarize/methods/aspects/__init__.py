@@ -1,0 +1,1 @@
+"""Aspect summaries: for one document, the few sentences that answer a named question."""

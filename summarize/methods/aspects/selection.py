@@ -1,0 +1,119 @@
+"""The aspect summarizer: query-biased centrality, then MMR, with a confidence."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from store.aspect_records import AspectSummary
+from store.records import Document, Segmentation, SourceLink, SummarySentence
+from summarize.methods.aspects.definitions import Aspect
+from summarize.methods.aspects.lexrank import QueryBiasedLexRank
+from summarize.methods.aspects.relevance import QueryRelevance
+from summarize.methods.budget import Budget, count_words
+from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
+
+ASPECT_BUDGET = Budget(sentences=2)
+
+
+def aspect_params(params: dict, aspect: Aspect) -> dict:
+    """A method's parameters for one aspect: the aspect's definition is part of them,
+    so editing its phrases makes new summaries rather than reusing old ones."""
+    return params | {"aspect": aspect.as_dict()}
+
+
+def aspect_summary(
+    method: str,
+    params: dict,
+    aspect: Aspect,
+    document: Document,
+    segmentation: Segmentation,
+    chosen: list[int],
+    scores: np.ndarray,
+    confidence: float,
+    details: dict,
+) -> AspectSummary:
+    """An AspectSummary of the ``chosen`` sentences in document order."""
+    sentences = [
+        SummarySentence(
+            text=segmentation.sentences[i].slice(document.text),
+            score=float(scores[i]),
+            sources=(SourceLink(segmentation.sentences[i], 1.0),),
+        )
+        for i in sorted(chosen)
+    ]
+    return AspectSummary(aspect.name, method, aspect_params(params, aspect), sentences, round(float(confidence), 4),
+                         details | {"sentence_indices": sorted(chosen)})
+
+
+@dataclass
+class AspectSummarizer:
+    """Extractive answer to an aspect: query-biased LexRank (Otterbacher, Erkan &
+    Radev 2005) for ranking, MMR (Carbonell & Goldstein 1998) against redundancy.
+
+    1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
+       (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
+    2. Candidates: selectable sentences (no headings, at least ``min_words`` words)
+       with ``evidence(s) ≥ min_evidence``. None → the document does not address
+       the aspect: no summary, confidence 0 (never a filler sentence).
+    3. Ranking: ``p(s | q)`` of query-biased LexRank with ``bias``
+       (:class:`~summarize.methods.aspects.lexrank.QueryBiasedLexRank`), over the
+       whole document's graph so centrality among all sentences counts.
+    4. MMR with ``mmr_lambda`` over TF-IDF cosines, then :meth:`Budget.select`.
+
+    Confidence = mean over the chosen sentences of ``min(1, evidence(s))``: 1 when
+    each carries at least one guide phrase's worth of evidence. It is a relevance
+    measure, not a calibrated probability (the learned variant gives one).
+    ``fit(texts)`` fits the IDF over the archive.
+    """
+
+    budget: Budget = ASPECT_BUDGET
+    min_words: int = 4
+    bias: float = 0.85
+    mmr_lambda: float = 0.7
+    min_evidence: float = 0.5
+    top_k: int | None = 50
+    name: str = field(default="aspect-lexrank", init=False)
+
+    def get_params(self) -> dict:
+        return {
+            "budget": self.budget.as_dict(),
+            "min_words": self.min_words,
+            "bias": self.bias,
+            "mmr_lambda": self.mmr_lambda,
+            "min_evidence": self.min_evidence,
+            "top_k": self.top_k,
+        }
+
+    def fit(self, texts: Iterable[str]) -> AspectSummarizer:
+        self.relevance_ = QueryRelevance().fit(texts)
+        return self
+
+    def evidence(self, texts: list[str], aspect: Aspect) -> tuple[np.ndarray, np.ndarray]:
+        """``evidence(s)`` per sentence and the guide-phrase match counts."""
+        relevance, phrase_hits = self._relevance().relevance(texts, aspect)
+        return relevance / self._relevance().evidence_unit(aspect), phrase_hits
+
+    def _relevance(self) -> QueryRelevance:
+        if not hasattr(self, "relevance_"):
+            raise RuntimeError("AspectSummarizer.fit must be called (on the archive) before summarize")
+        return self.relevance_
+
+    def summarize(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> AspectSummary:
+        texts = segmentation.sentence_texts(document.text)
+        words = [count_words(t) for t in texts]
+        evidence, _ = self.evidence(texts, aspect)
+        candidates = [i for i in selectable_sentences(segmentation, words, self.min_words) if evidence[i] >= self.min_evidence]
+        best = float(evidence.max()) if len(evidence) else 0.0
+        if not candidates:
+            return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, [], np.zeros(0), 0.0,
+                                  {"best_evidence": round(best, 4)})
+        vectors = self._relevance().sentence_vectors(texts)
+        scores = QueryBiasedLexRank(self.bias, self.top_k).scores(vectors, np.clip(evidence, 0, None))
+        ranked = mmr_order(scores, CosineRows(vectors), rank_by_score(scores, candidates), self.mmr_lambda)
+        chosen = self.budget.select(ranked, words)
+        confidence = float(np.mean(np.minimum(1.0, evidence[chosen])))
+        return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, chosen, scores, confidence,
+                              {"best_evidence": round(best, 4)})
