@@ -120,3 +120,27 @@ def choose_aspects(names: list[str] | None, aspects: tuple[Aspect, ...] = REPORT
     if missing:
         raise UsageError(f"unknown aspect(s) {', '.join(missing)} (known: {', '.join(known)})")
     return tuple(known[name] for name in names)
+
+
+# Aspects of a research paper, named as ACLSum names them (Takeshita et al. 2024);
+# the phrases are our own choice.
+PAPER_ASPECTS: tuple[Aspect, ...] = (
+    Aspect(
+        "challenge",
+        "What problem or challenge does the paper address?",
+        ("problem", "challenge", "however", "difficult", "limitation", "remains", "lack", "costly", "expensive",
+         "suffer", "unclear", "issue"),
+    ),
+    Aspect(
+        "approach",
+        "What approach does the paper propose?",
+        ("we propose", "we present", "we introduce", "our method", "our approach", "our model", "this paper",
+         "in this paper", "based on", "framework", "method"),
+    ),
+    Aspect(
+        "outcome",
+        "What are the results?",
+        ("results show", "outperforms", "improves", "significantly", "achieves", "state-of-the-art", "experiments show",
+         "we show", "demonstrate", "better than", "improvement"),
+    ),
+)

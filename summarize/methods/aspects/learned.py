@@ -31,6 +31,19 @@ ASPECT_FEATURE_NAMES = (*FEATURE_NAMES, "aspect_evidence", "aspect_evidence_rank
                         "aspect_lexrank", "aspect_lexrank_rank")
 MODELS = ("logistic", "gradient-boosting")
 Example = tuple[Document, Segmentation]
+TUNABLE = ("c", "bias", "min_probability", "relevance")
+RELEVANCE_RULES = ("probability", "probability-evidence")
+
+
+@dataclass(frozen=True)
+class SentenceEvidence:
+    """What the learned scorer knows about one document's sentences for one aspect."""
+
+    probabilities: np.ndarray
+    evidence: np.ndarray
+    vectors: object
+    candidates: list[int]
+    words: list[int]
 
 
 def _rank_share(values: np.ndarray) -> np.ndarray:
@@ -39,8 +52,7 @@ def _rank_share(values: np.ndarray) -> np.ndarray:
 
 @dataclass
 class LearnedAspectSummarizer:
-    """Supervised sentence scoring per aspect, with the selection rule of
-    :class:`~summarize.methods.aspects.selection.AspectSummarizer`.
+    """Supervised sentence scoring per aspect, ranked by query-biased LexRank.
 
     Features: the house-style sentence features (position, section cues, centrality,
     surface cues; :class:`~summarize.methods.learned.sentence_features.SentenceFeatures`)
@@ -51,17 +63,21 @@ class LearnedAspectSummarizer:
     aspect's reference, at the reference's length in words; documents without a
     reference for an aspect do not train it. One classifier per aspect learns
     ``P(y = 1 | features)`` with balanced class weights (``model``: l2 logistic
-    regression with inverse strength ``C`` on standardised features, or scikit-learn's
+    regression with inverse strength ``c`` on standardised features, or scikit-learn's
     histogram gradient boosting). Oracle labels as targets follow Nallapati et al.
     (2017) (cited from memory); the feature set is our own choice.
 
     Summarising: candidates are the sentences with ``P ≥ min_probability`` (none →
-    no summary). They are ranked by query-biased LexRank whose relevance term is
-    learned: ``rel(s | q) = P(s) · evidence(s)`` (``bias = 1`` ranks by that product
-    alone), then MMR with ``mmr_lambda`` and the budget. Confidence = mean ``P`` of
-    the chosen sentences. Aspects without a trained scorer fall back to the unlearned
-    summarizer. ``c``, ``bias`` and ``min_probability`` are meant to be tuned on
-    held-out documents.
+    no summary, never a filler). They are ranked by query-biased LexRank whose
+    relevance term is learned — ``rel(s | q) = P(s)`` (``relevance="probability"``) or
+    ``P(s) · evidence(s)`` (``"probability-evidence"``); ``bias = 1`` ranks by
+    ``rel`` alone — then MMR (Carbonell & Goldstein 1998) with ``mmr_lambda`` and the
+    budget. Confidence = mean ``P`` of the chosen sentences.
+
+    ``c``, ``bias``, ``min_probability`` and ``relevance`` are defaults;
+    ``per_aspect`` overrides them for single aspects (set by tuning on held-out
+    documents, so each aspect gets its own). Aspects without a trained scorer fall
+    back to the unlearned :class:`~summarize.methods.aspects.selection.AspectSummarizer`.
     """
 
     aspects: tuple[Aspect, ...] = ()
@@ -70,8 +86,10 @@ class LearnedAspectSummarizer:
     model: str = "logistic"
     c: float = 1.0
     min_probability: float = 0.5
-    mmr_lambda: float = 0.7
     bias: float = 0.85
+    relevance: str = "probability-evidence"
+    mmr_lambda: float = 0.7
+    per_aspect: dict = field(default_factory=dict)
     seed: int = 0
     name: str = field(default="aspect-learned", init=False)
 
@@ -82,11 +100,16 @@ class LearnedAspectSummarizer:
             "model": self.model,
             "c": self.c,
             "min_probability": self.min_probability,
-            "mmr_lambda": self.mmr_lambda,
             "bias": self.bias,
+            "relevance": self.relevance,
+            "mmr_lambda": self.mmr_lambda,
+            "per_aspect": self.per_aspect,
             "seed": self.seed,
             "aspects": [aspect.as_dict() for aspect in self.aspects],
         }
+
+    def setting(self, aspect: str, key: str):
+        return self.per_aspect.get(aspect, {}).get(key, getattr(self, key))
 
     # training -----------------------------------------------------------------------
 
@@ -94,7 +117,7 @@ class LearnedAspectSummarizer:
         """The archive-wide IDF behind every feature (no references needed)."""
         texts = list(archive_texts)
         self.features_ = SentenceFeatures().fit(texts)
-        self.unlearned_ = AspectSummarizer(budget=self.budget, min_words=self.min_words, bias=self.bias,
+        self.unlearned_ = AspectSummarizer(budget=self.budget, min_words=self.min_words,
                                            mmr_lambda=self.mmr_lambda).fit(texts)
         return self
 
@@ -124,7 +147,7 @@ class LearnedAspectSummarizer:
                 )
                 labels = np.zeros(len(words))
                 labels[oracle.details["sentence_indices"]] = 1.0
-                features = np.hstack([base, self._aspect_columns(document, segmentation, aspect)])
+                features = np.hstack([base, self._aspect_columns(document, segmentation, aspect)[0]])
                 rows[aspect.name].append((features[candidates], labels[candidates]))
         return rows
 
@@ -138,29 +161,33 @@ class LearnedAspectSummarizer:
             if len(np.unique(labels)) < 2:
                 continue
             with threadpool_limits(limits=1):
-                self.models_[name] = self._new_model().fit(np.vstack([x for x, _ in pairs]), labels)
+                self.models_[name] = self._new_model(self.setting(name, "c")).fit(
+                    np.vstack([x for x, _ in pairs]), labels
+                )
             self.training_documents_[name] = len(pairs)
         if not self.models_:
             raise ValueError("no aspect has references to learn from (labelled sections or fields)")
         return self
 
-    def _new_model(self):
+    def _new_model(self, c: float):
         if self.model == "logistic":
             return make_pipeline(
                 StandardScaler(),
-                LogisticRegression(C=self.c, class_weight="balanced", max_iter=2000, random_state=self.seed),
+                LogisticRegression(C=c, class_weight="balanced", max_iter=2000, random_state=self.seed),
             )
         if self.model == "gradient-boosting":
             return HistGradientBoostingClassifier(learning_rate=0.05, max_iter=200, class_weight="balanced",
                                                   random_state=self.seed)
         raise ValueError(f"model must be one of {', '.join(MODELS)}, got {self.model!r}")
 
-    def _aspect_columns(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> np.ndarray:
+    def _aspect_columns(self, document: Document, segmentation: Segmentation, aspect: Aspect):
         texts = segmentation.sentence_texts(document.text)
         evidence, hits = self.unlearned_.evidence(texts, aspect)
         vectors = self.unlearned_.relevance_.sentence_vectors(texts)
-        lexrank = QueryBiasedLexRank(self.bias).scores(vectors, np.clip(evidence, 0, None)) * max(len(texts), 1)
-        return np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank)])
+        lexrank = QueryBiasedLexRank(self.unlearned_.bias).scores(vectors, np.clip(evidence, 0, None))
+        lexrank = lexrank * max(len(texts), 1)
+        columns = np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank)])
+        return columns, evidence, vectors
 
     def untrained_copy(self) -> LearnedAspectSummarizer:
         """The same settings and fitted IDF, without trained scorers (for folds)."""
@@ -174,7 +201,24 @@ class LearnedAspectSummarizer:
     def trained_aspects(self) -> list[str]:
         return sorted(getattr(self, "models_", {}))
 
-    def summarize(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> AspectSummary:
+    def sentence_evidence(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> SentenceEvidence:
+        """``P`` per sentence (0 for non-candidates), ``evidence(s)``, TF-IDF vectors."""
+        texts = segmentation.sentence_texts(document.text)
+        words = [count_words(t) for t in texts]
+        candidates = selectable_sentences(segmentation, words, self.min_words)
+        columns, evidence, vectors = self._aspect_columns(document, segmentation, aspect)
+        probabilities = np.zeros(len(texts))
+        if candidates:
+            rows = np.hstack([self.features_.transform(document, segmentation), columns])[candidates]
+            with threadpool_limits(limits=1):
+                probabilities[candidates] = self.models_[aspect.name].predict_proba(rows)[:, 1]
+        return SentenceEvidence(probabilities, evidence, vectors, candidates, words)
+
+    def summarize(
+        self, document: Document, segmentation: Segmentation, aspect: Aspect, known: SentenceEvidence | None = None
+    ) -> AspectSummary:
+        """``known``: this document's :meth:`sentence_evidence` for the aspect, when
+        already computed (tuning tries many settings on the same scores)."""
         if not hasattr(self, "features_"):
             raise RuntimeError("LearnedAspectSummarizer.fit must be called before summarize")
         if aspect.name not in getattr(self, "models_", {}):
@@ -184,26 +228,20 @@ class LearnedAspectSummarizer:
             fallback.method = self.name
             fallback.params = aspect_params(self.get_params(), aspect)
             return fallback
-        texts = segmentation.sentence_texts(document.text)
-        words = [count_words(t) for t in texts]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
-        probabilities = np.zeros(len(texts))
-        if candidates:
-            rows = np.hstack([self.features_.transform(document, segmentation),
-                              self._aspect_columns(document, segmentation, aspect)])[candidates]
-            with threadpool_limits(limits=1):
-                probabilities[candidates] = self.models_[aspect.name].predict_proba(rows)[:, 1]
-        answering = [i for i in candidates if probabilities[i] >= self.min_probability]
+        known = known or self.sentence_evidence(document, segmentation, aspect)
+        probabilities = known.probabilities
+        answering = [i for i in known.candidates if probabilities[i] >= self.setting(aspect.name, "min_probability")]
         best = float(probabilities.max()) if len(probabilities) else 0.0
         if not answering:
             return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, [], probabilities, 0.0,
                                   {"best_probability": round(best, 4)})
-        vectors = self.unlearned_.relevance_.sentence_vectors(texts)
-        evidence, _ = self.unlearned_.evidence(texts, aspect)
-        teleport = probabilities * np.clip(evidence, 0, None)
-        scores = QueryBiasedLexRank(self.bias).scores(vectors, teleport) if self.bias < 1 else teleport
-        ranked = mmr_order(scores, CosineRows(vectors), rank_by_score(scores, answering), self.mmr_lambda)
-        chosen = self.budget.select(ranked, words)
+        relevance = probabilities
+        if self.setting(aspect.name, "relevance") == "probability-evidence":
+            relevance = probabilities * np.clip(known.evidence, 0, None)
+        bias = self.setting(aspect.name, "bias")
+        scores = QueryBiasedLexRank(bias).scores(known.vectors, relevance) if bias < 1 else relevance
+        ranked = mmr_order(scores, CosineRows(known.vectors), rank_by_score(scores, answering), self.mmr_lambda)
+        chosen = self.budget.select(ranked, known.words)
         confidence = float(np.mean(probabilities[chosen]))
         return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, chosen, probabilities,
                               confidence, {"best_probability": round(best, 4)})
