@@ -17,7 +17,8 @@ Sources live next to this script in ``demo_sources/``:
   copied verbatim after the ``===`` line.
 
 When a header carries ``summary:``, a UTF-8 sidecar ``NAME.summary.txt``
-is written next to the output.  The awkward files (empty, binary, image
+is written next to the output; header keys ``cause:``, ``actions:`` and
+``open items:`` add aspect-labelled lines (``Cause: ...``) after it.  The awkward files (empty, binary, image
 only PDF, malformed JSON, non-zip DOCX) are generated as well.
 
 Everything is deterministic: fixed seeds, fixed creation dates, fixed
@@ -278,11 +279,15 @@ def build_text(meta: dict, body: str, out: Path) -> None:
     out.write_bytes(data)
 
 
+ASPECT_LABELS = ("Cause", "Actions", "Open items")
+
+
 def write_sidecar(meta: dict, out: Path) -> None:
     summary = meta.get("summary")
     if summary:
+        lines = [summary] + [f"{label}: {meta[label.lower()]}" for label in ASPECT_LABELS if meta.get(label.lower())]
         side = out.with_name(out.stem + ".summary.txt")
-        side.write_text(summary + "\n", encoding="utf-8")
+        side.write_text("\n".join(lines) + "\n", encoding="utf-8")
 
 
 def build_awkward(root: Path) -> list[Path]:

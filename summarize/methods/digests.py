@@ -12,8 +12,9 @@ from store.records import Document, Segmentation
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexRank
 from summarize.methods.aspects.relevance import QueryRelevance
+from summarize.methods.aspects.selection import answer_candidates
 from summarize.methods.budget import Budget, count_words
-from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
+from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score
 
 DIGEST_BUDGET = Budget(sentences=8)
 StoredDocument = tuple[int, Document, Segmentation]
@@ -29,12 +30,12 @@ class PooledSentences:
     words: list[int]
 
 
-def pool_sentences(documents: list[StoredDocument], min_words: int) -> PooledSentences:
+def pool_sentences(documents: list[StoredDocument], min_words: int, max_words: int) -> PooledSentences:
     pooled = PooledSentences([], [], [], [])
     for document_id, document, segmentation in documents:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        for index in selectable_sentences(segmentation, words, min_words):
+        for index in answer_candidates(segmentation, words, min_words, max_words):
             pooled.documents.append(document_id)
             pooled.spans.append(segmentation.sentences[index])
             pooled.texts.append(texts[index])
@@ -68,7 +69,8 @@ class DigestSummarizer:
     (Otterbacher, Erkan & Radev 2005) when an aspect is given — with near-duplicate
     merging and MMR (Carbonell & Goldstein 1998).
 
-    1. Pool the selectable sentences (no headings, at least ``min_words`` words); for
+    1. Pool the sentences an answer may use (no headings, ``min_words`` to
+       ``max_words`` words); for
        an aspect keep those with ``evidence(s) ≥ min_evidence``
        (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
     2. TF-IDF vectors (IDF fitted over the selected documents, so a digest depends on
@@ -83,6 +85,7 @@ class DigestSummarizer:
 
     budget: Budget = DIGEST_BUDGET
     min_words: int = 5
+    max_words: int = 60
     damping: float = 0.85
     bias: float = 0.85
     mmr_lambda: float = 0.7
@@ -95,6 +98,7 @@ class DigestSummarizer:
             "method": "lexrank-mmr",
             "budget": self.budget.as_dict(),
             "min_words": self.min_words,
+            "max_words": self.max_words,
             "damping": self.damping,
             "bias": self.bias,
             "mmr_lambda": self.mmr_lambda,
@@ -105,7 +109,7 @@ class DigestSummarizer:
 
     def summarize(self, documents: list[StoredDocument], aspect: Aspect | None = None) -> tuple[list[DigestSentence], dict]:
         """The digest's sentences and facts about how they were found."""
-        pooled = pool_sentences(documents, self.min_words)
+        pooled = pool_sentences(documents, self.min_words, self.max_words)
         relevance = QueryRelevance().fit([document.text for _, document, _ in documents] or ["empty"])
         details = {"documents": len(documents), "pooled_sentences": len(pooled.texts)}
         if aspect is not None and pooled.texts:

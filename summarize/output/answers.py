@@ -53,7 +53,9 @@ def format_aspect_table(rows: list[dict], width: int = 100) -> str:
 
 def _citation_label(citation: dict) -> str:
     when = f", {citation['date']}" if citation["date"] else ""
-    return f"#{citation['document_id']} {citation['record_key']}{when}, chars {citation['start']}-{citation['end']}"
+    # The file name is enough beside the id; record keys are often long absolute paths.
+    name = Path(citation["record_key"]).name
+    return f"#{citation['document_id']} {name}{when}, chars {citation['start']}-{citation['end']}"
 
 
 def _selection_text(selection: dict) -> str:

@@ -22,7 +22,13 @@ from summarize.evaluation.oracle import OracleSummarizer
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import QueryBiasedLexRank
 from summarize.methods.aspects.references import aspect_references
-from summarize.methods.aspects.selection import ASPECT_BUDGET, AspectSummarizer, aspect_params, aspect_summary
+from summarize.methods.aspects.selection import (
+    ASPECT_BUDGET,
+    AspectSummarizer,
+    answer_candidates,
+    aspect_params,
+    aspect_summary,
+)
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
@@ -205,7 +211,7 @@ class LearnedAspectSummarizer:
         """``P`` per sentence (0 for non-candidates), ``evidence(s)``, TF-IDF vectors."""
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        candidates = answer_candidates(segmentation, words, self.min_words, self.unlearned_.max_words)
         columns, evidence, vectors = self._aspect_columns(document, segmentation, aspect)
         probabilities = np.zeros(len(texts))
         if candidates:

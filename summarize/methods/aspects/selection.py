@@ -18,6 +18,13 @@ from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, s
 ASPECT_BUDGET = Budget(sentences=2)
 
 
+def answer_candidates(segmentation: Segmentation, words: list[int], min_words: int, max_words: int) -> list[int]:
+    """Sentences an answer may use: selectable (no headings, at least ``min_words``
+    words) and at most ``max_words`` long — longer "sentences" are flattened tables
+    or lists, which answer nothing in a few words."""
+    return [i for i in selectable_sentences(segmentation, words, min_words) if words[i] <= max_words]
+
+
 def aspect_params(params: dict, aspect: Aspect) -> dict:
     """A method's parameters for one aspect: the aspect's definition is part of them,
     so editing its phrases makes new summaries rather than reusing old ones."""
@@ -55,7 +62,7 @@ class AspectSummarizer:
 
     1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
        (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
-    2. Candidates: selectable sentences (no headings, at least ``min_words`` words)
+    2. Candidates: :func:`answer_candidates` (``min_words`` to ``max_words`` words)
        with ``evidence(s) ≥ min_evidence``. None → the document does not address
        the aspect: no summary, confidence 0 (never a filler sentence).
     3. Ranking: ``p(s | q)`` of query-biased LexRank with ``bias``
@@ -63,14 +70,17 @@ class AspectSummarizer:
        whole document's graph so centrality among all sentences counts.
     4. MMR with ``mmr_lambda`` over TF-IDF cosines, then :meth:`Budget.select`.
 
-    Confidence = mean over the chosen sentences of ``min(1, evidence(s))``: 1 when
-    each carries at least one guide phrase's worth of evidence. It is a relevance
-    measure, not a calibrated probability (the learned variant gives one).
+    Confidence = mean over the chosen sentences of ``e / (1 + e)`` with ``e =
+    evidence(s)`` (evidence read as odds: 0.5 for one guide phrase's worth, 0.75 for
+    three). The squashing is our own choice; it orders answers by how much they
+    say about the aspect but is not a calibrated probability (the learned variant's
+    is closer to one).
     ``fit(texts)`` fits the IDF over the archive.
     """
 
     budget: Budget = ASPECT_BUDGET
     min_words: int = 4
+    max_words: int = 60
     bias: float = 0.85
     mmr_lambda: float = 0.7
     min_evidence: float = 0.5
@@ -81,6 +91,7 @@ class AspectSummarizer:
         return {
             "budget": self.budget.as_dict(),
             "min_words": self.min_words,
+            "max_words": self.max_words,
             "bias": self.bias,
             "mmr_lambda": self.mmr_lambda,
             "min_evidence": self.min_evidence,
@@ -105,7 +116,10 @@ class AspectSummarizer:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
         evidence, _ = self.evidence(texts, aspect)
-        candidates = [i for i in selectable_sentences(segmentation, words, self.min_words) if evidence[i] >= self.min_evidence]
+        candidates = [
+            i for i in answer_candidates(segmentation, words, self.min_words, self.max_words)
+            if evidence[i] >= self.min_evidence
+        ]
         best = float(evidence.max()) if len(evidence) else 0.0
         if not candidates:
             return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, [], np.zeros(0), 0.0,
@@ -114,6 +128,6 @@ class AspectSummarizer:
         scores = QueryBiasedLexRank(self.bias, self.top_k).scores(vectors, np.clip(evidence, 0, None))
         ranked = mmr_order(scores, CosineRows(vectors), rank_by_score(scores, candidates), self.mmr_lambda)
         chosen = self.budget.select(ranked, words)
-        confidence = float(np.mean(np.minimum(1.0, evidence[chosen])))
+        confidence = float(np.mean(evidence[chosen] / (1 + evidence[chosen])))
         return aspect_summary(self.name, self.get_params(), aspect, document, segmentation, chosen, scores, confidence,
                               {"best_evidence": round(best, 4)})

@@ -1,0 +1,144 @@
+"""Aspect summaries: the graph rankings against networkx, the relevance formula, the
+selection rules, labelled references."""
+
+from __future__ import annotations
+
+import math
+
+import networkx as nx
+import numpy as np
+import pytest
+
+from store.errors import UsageError
+from store.records import Document
+from summarize.methods.aspects.definitions import PAPER_ASPECTS, REPORT_ASPECTS, Aspect, aspects_from_mapping
+from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexRank, cosine_graph
+from summarize.methods.aspects.references import aspect_references, labelled_sections
+from summarize.methods.aspects.relevance import QueryRelevance
+from summarize.methods.aspects.selection import AspectSummarizer
+from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
+from summarize.reading.split import split_document
+
+
+@pytest.fixture(scope="module")
+def papers():
+    documents = load_aclsum_aspects("test", limit=12)
+    return [(d, line_segmentation(d)) for d in documents]
+
+
+@pytest.fixture(scope="module")
+def fitted(papers):
+    return AspectSummarizer().fit([d.text for d, _ in papers])
+
+
+def _sentence_vectors(fitted, document, segmentation):
+    return fitted.relevance_.sentence_vectors(segmentation.sentence_texts(document.text))
+
+
+# External check: networkx (pagerank on the same weighted graph); continuous LexRank
+# as defined by Erkan & Radev (2004).
+def test_continuous_lexrank_equals_networkx_pagerank(papers, fitted):
+    for document, segmentation in papers[:4]:
+        vectors = _sentence_vectors(fitted, document, segmentation)
+        graph = cosine_graph(vectors)
+        ours = ContinuousLexRank(damping=0.85).scores(vectors)
+        reference = nx.pagerank(nx.from_scipy_sparse_array(graph), alpha=0.85, weight="weight", tol=1e-14,
+                                max_iter=10_000)
+        assert np.allclose(ours, [reference[i] for i in range(len(ours))], atol=1e-6)
+        # The graph really is the cosine similarity of the l2-normalised rows.
+        dense = (vectors @ vectors.T).toarray()
+        np.fill_diagonal(dense, 0.0)
+        assert np.allclose(graph.toarray(), dense)
+
+
+# External check: networkx (personalised PageRank, `personalization`, whose teleport
+# vector also receives dangling mass); query-biased LexRank as Otterbacher, Erkan &
+# Radev (2005) define it.
+def test_query_biased_lexrank_equals_networkx_personalised_pagerank(papers, fitted):
+    aspect = PAPER_ASPECTS[2]
+    for document, segmentation in papers[:4]:
+        texts = segmentation.sentence_texts(document.text)
+        vectors = _sentence_vectors(fitted, document, segmentation)
+        relevance, _ = fitted.relevance_.relevance(texts, aspect)
+        assert relevance.sum() > 0
+        ours = QueryBiasedLexRank(bias=0.7).scores(vectors, relevance)
+        weights = {i: value / relevance.sum() for i, value in enumerate(relevance)}
+        reference = nx.pagerank(nx.from_scipy_sparse_array(cosine_graph(vectors)), alpha=0.3,
+                                personalization=weights, weight="weight", tol=1e-14, max_iter=10_000)
+        assert np.allclose(ours, [reference[i] for i in range(len(ours))], atol=1e-6)
+
+
+# External check: the relevance formula of Otterbacher, Erkan & Radev (2005),
+# rel(s|q) = Σ_w log(tf(w,s)+1)·log(tf(w,q)+1)·idf(w), worked by hand with
+# scikit-learn's documented smooth IDF ln((1+n)/(1+df))+1.
+def test_relevance_follows_the_published_formula_worked_by_hand():
+    archive = ["the pump failed", "the valve leaked", "pump pump station"]
+    aspect = Aspect("cause", "pump", ("valve leak",))
+    relevance = QueryRelevance().fit(archive)
+    values, hits = relevance.relevance(["pump failed near the pump", "nothing here at all"], aspect)
+    idf_pump = math.log(4 / 3) + 1  # in 2 of 3 documents
+    idf_valve = math.log(4 / 2) + 1  # "valve": 1 of 3
+    idf_leak = math.log(4 / 2) + 1  # "leaked" stems to "leak": 1 of 3
+    # query words: pump (once in the question), valve, leak (once each in the phrase)
+    expected_first = math.log(3) * math.log(2) * idf_pump
+    assert values[0] == pytest.approx(expected_first)
+    assert values[1] == 0.0 and list(hits) == [0, 0]
+    values, hits = relevance.relevance(["a valve leak"], aspect)
+    phrase_idf = idf_valve + idf_leak
+    expected = math.log(2) * math.log(2) * (idf_valve + idf_leak) + math.log(2) * math.log(2) * phrase_idf
+    assert values[0] == pytest.approx(expected) and hits[0] == 1
+
+
+def test_aspect_not_addressed_gives_no_summary_rather_than_filler():
+    text = ("Quarterly figures\n\nThe committee met on Tuesday and approved the minutes of the last meeting. "
+            "Attendance was good and the room was warm. The next meeting is in the spring.")
+    document = Document("k", "k.txt", text, "text", "0" * 64, len(text))
+    summarizer = AspectSummarizer().fit([text])
+    cause = REPORT_ASPECTS[0]
+    summary = summarizer.summarize(document, split_document(document), cause)
+    assert not summary.addressed and summary.sentences == [] and summary.confidence == 0.0
+    text2 = text + " The outage was caused by a failure of the main breaker, because the relay was set too low."
+    document2 = Document("k2", "k2.txt", text2, "text", "1" * 64, len(text2))
+    answer = AspectSummarizer().fit([text2]).summarize(document2, split_document(document2), cause)
+    assert answer.addressed and "caused by a failure" in answer.text
+    assert 0 < answer.confidence < 1
+    for sentence in answer.sentences:
+        assert sentence.sources[0].span.slice(text2) == sentence.text
+
+
+def test_answers_are_spans_in_document_order_within_budget(papers, fitted):
+    for document, segmentation in papers:
+        for aspect in PAPER_ASPECTS:
+            summary = fitted.summarize(document, segmentation, aspect)
+            assert len(summary.sentences) <= 2
+            starts = [s.sources[0].span.start for s in summary.sentences]
+            assert starts == sorted(starts)
+            for sentence in summary.sentences:
+                assert sentence.sources[0].span.slice(document.text) == sentence.text
+            assert summary.params["aspect"]["name"] == aspect.name
+
+
+def test_labelled_sections_and_json_fields_become_aspect_references():
+    reference = ("The pump failed on Monday.\nCause: A worn bearing.\nActions taken: The pump was isolated\n"
+                 "and replaced.\n**Open items:** Audit the greasing records by March 2025.")
+    sections = labelled_sections(reference, REPORT_ASPECTS)
+    assert sections == {"cause": "A worn bearing.", "actions": "The pump was isolated and replaced.",
+                        "open_items": "Audit the greasing records by March 2025."}
+    document = Document("r#1", "r.json", "text", "json", "2" * 64, 4, reference_summary="Plain summary.",
+                        metadata={"root cause": "Lightning.", "open_items": "Replace the arrester."})
+    assert aspect_references(document, REPORT_ASPECTS) == {"cause": "Lightning.", "open_items": "Replace the arrester."}
+
+
+def test_aspects_from_a_job_table_and_their_errors():
+    aspects = aspects_from_mapping({"cost": {"question": "What did it cost?", "phrases": ["£<number>", "cost"]}})
+    assert aspects[0].name == "cost"
+    assert aspects[0].phrase_patterns()[0].search("about £23,000 in repairs")
+    assert aspects[0].phrase_patterns()[0].search("priced at £23") is not None
+    with pytest.raises(UsageError):
+        aspects_from_mapping({"cost": {"question": "?", "phrases": []}})
+    with pytest.raises(UsageError):
+        aspects_from_mapping({"cost": {"phrases": ["x"], "colour": "red"}})
+    with pytest.raises(UsageError):
+        Aspect("Bad Name", "?", ("x",))
+    date = REPORT_ASPECTS[2].phrase_patterns()[REPORT_ASPECTS[2].phrases.index("by <date>")]
+    assert date.search("to be replaced by 30 April 2025") and date.search("by end of November")
