@@ -27,7 +27,9 @@ demo: install
 	$(BIN)/summarize export --db $(DEMO_DB) --format html --out $(DEMO_OUT)/summaries.html
 	$(BIN)/summarize export --db $(DEMO_DB) --format csv --out $(DEMO_OUT)/summaries.csv
 	$(BIN)/summarize report --db $(DEMO_DB) --out $(DEMO_OUT)/report.html
-	@echo "store: $(DEMO_DB)   exports: $(DEMO_OUT)/summaries.html, $(DEMO_OUT)/summaries.csv   report: $(DEMO_OUT)/report.html"
+	$(BIN)/summarize aspects demo_archive/incidents/INC-2024-019_ps4_pump_bearing_failure.pdf --db $(DEMO_DB)
+	$(BIN)/summarize digest new --db $(DEMO_DB) --name incident-causes --folder demo_archive/incidents --aspect cause --budget 6 --out $(DEMO_OUT)/digest.html
+	@echo "store: $(DEMO_DB)   exports: $(DEMO_OUT)/summaries.html, $(DEMO_OUT)/summaries.csv   report: $(DEMO_OUT)/report.html   digest: $(DEMO_OUT)/digest.html"
 
 lint: install
 	$(BIN)/ruff check .

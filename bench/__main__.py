@@ -1,13 +1,13 @@
 """Run every benchmark in turn (slow: tens of minutes on two cores) and print its tables.
 
 Each one also runs alone: ``python -m bench.operations``, ``bench.seq2seq_speed``,
-``bench.aclsum_eval``, ``bench.learned_aclsum``, ``bench.site_latency``.
+``bench.aclsum_eval``, ``bench.learned_aclsum``, ``bench.site_latency``, ``bench.aclsum_aspects``.
 """
 
 import importlib
 import sys
 
-BENCHMARKS = ("operations", "seq2seq_speed", "aclsum_eval", "learned_aclsum", "site_latency")
+BENCHMARKS = ("operations", "seq2seq_speed", "aclsum_eval", "learned_aclsum", "site_latency", "aclsum_aspects")
 
 for name in BENCHMARKS:
     print(f"\n## bench.{name}\n", flush=True)

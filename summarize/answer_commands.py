@@ -157,14 +157,16 @@ _WAIT = click.option("--wait-lock", type=click.FloatRange(0), default=0.0,
 @click.option("--job", type=click.Path(dir_okay=False), default=None, help="TOML job file with [aspects.NAME] tables.")
 @click.option("--budget", default="8", show_default=True, callback=_budget, help="Digest length: '8' sentences or '200w'.")
 @click.option("--mmr", type=click.FloatRange(0, 1), default=0.7, show_default=True, help="MMR λ (1 = relevance only).")
+@click.option("--per-document", type=click.IntRange(1), default=2, show_default=True,
+              help="At most this many digest sentences led by one document.")
 @click.option("--duplicate-threshold", type=click.FloatRange(0, 1, min_open=True), default=0.8, show_default=True,
               help="Cosine at or above which sentences are merged as near-duplicates.")
 @_OUT
 @_FORMAT
 @_JSON
 @_WAIT
-def digest_new(db_path, name, query, folder, since, until, status, aspect, job, budget, mmr, duplicate_threshold,
-               out_path, fmt, as_json, wait_lock):
+def digest_new(db_path, name, query, folder, since, until, status, aspect, job, budget, mmr, per_document,
+               duplicate_threshold, out_path, fmt, as_json, wait_lock):
     """Make a digest of the documents the selection names (all active documents when
     no criterion is given); a rerun on an unchanged archive writes nothing."""
     from summarize.runs.digest_runs import make_digest
@@ -173,7 +175,8 @@ def digest_new(db_path, name, query, folder, since, until, status, aspect, job, 
     try:
         chosen = _aspects(job, (aspect,))[0] if aspect else None
         selection = DocumentSelection(query=query, folder=folder, since=since, until=until, status=status)
-        summarizer = DigestSummarizer(budget=budget, mmr_lambda=mmr, duplicate_threshold=duplicate_threshold)
+        summarizer = DigestSummarizer(budget=budget, mmr_lambda=mmr, per_document=per_document,
+                                      duplicate_threshold=duplicate_threshold)
         outcome = make_digest(db_path, selection, name, chosen, summarizer, lock_wait_seconds=wait_lock,
                               progress=None if as_json else _say)
     except (SummarizerError, StoreLocked) as error:

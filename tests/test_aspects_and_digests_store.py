@@ -98,6 +98,8 @@ def test_digest_citations_near_duplicates_and_rerun(paper_store):
             assert texts[citation["document_id"]][citation["start"]:citation["end"]] == citation["text"]
             assert (citation["document_id"], citation["start"], citation["end"]) in stored_sentences
             assert citation["similarity"] >= 0.8
+    leads = [sentence["citations"][0]["document_id"] for sentence in record["sentences"]]
+    assert max(leads.count(d) for d in set(leads)) <= 2 and len(leads) > PAPERS
     # No two digest sentences at or above the near-duplicate threshold, measured with
     # the digest's own vectors (IDF over the selected documents).
     vectors = QueryRelevance().fit(list(texts.values())).sentence_vectors([s["text"] for s in record["sentences"]])
@@ -115,7 +117,7 @@ def test_digest_citations_near_duplicates_and_rerun(paper_store):
 def test_near_duplicate_sentences_from_two_documents_are_merged(paper_store):
     db_path, documents, echoed = paper_store
     outcome = make_digest(db_path, DocumentSelection(), name="echo", summarizer=DigestSummarizer(
-        budget=Budget(sentences=400), mmr_lambda=1.0))
+        budget=Budget(sentences=400), mmr_lambda=1.0, per_document=None))
     holders = [s for s in outcome.record["sentences"] if any(c["text"] == echoed for c in s["citations"])]
     assert len(holders) == 1
     cited = [c["document_id"] for c in holders[0]["citations"] if c["text"] == echoed]

@@ -35,7 +35,7 @@ def pool_sentences(documents: list[StoredDocument], min_words: int, max_words: i
     for document_id, document, segmentation in documents:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        for index in answer_candidates(segmentation, words, min_words, max_words):
+        for index in answer_candidates(segmentation, texts, words, min_words, max_words):
             pooled.documents.append(document_id)
             pooled.spans.append(segmentation.sentences[index])
             pooled.texts.append(texts[index])
@@ -79,7 +79,9 @@ class DigestSummarizer:
     3. Near-duplicates: leader clustering in score order at cosine ``≥
        duplicate_threshold``; a group's leader stands for it and carries every
        member's citation, so no two digest sentences are near-duplicates.
-    4. MMR with ``mmr_lambda`` over the leaders, cut by the budget. Sentences are
+    4. MMR with ``mmr_lambda`` over the leaders; at most ``per_document`` sentences
+       led by the same document (None: no cap; the cap is our own rule, so that one
+       long report cannot fill a digest of many); cut by the budget. Sentences are
        given best first.
     """
 
@@ -90,6 +92,7 @@ class DigestSummarizer:
     bias: float = 0.85
     mmr_lambda: float = 0.7
     duplicate_threshold: float = 0.8
+    per_document: int | None = 2
     min_evidence: float = 0.5
     top_k: int | None = 50
 
@@ -103,9 +106,21 @@ class DigestSummarizer:
             "bias": self.bias,
             "mmr_lambda": self.mmr_lambda,
             "duplicate_threshold": self.duplicate_threshold,
+            "per_document": self.per_document,
             "min_evidence": self.min_evidence,
             "top_k": self.top_k,
         }
+
+    def _capped(self, ranked: list[int], owners: list[int]) -> list[int]:
+        if self.per_document is None:
+            return ranked
+        taken: dict[int, int] = {}
+        kept = []
+        for index in ranked:
+            if taken.get(owners[index], 0) < self.per_document:
+                taken[owners[index]] = taken.get(owners[index], 0) + 1
+                kept.append(index)
+        return kept
 
     def summarize(self, documents: list[StoredDocument], aspect: Aspect | None = None) -> tuple[list[DigestSentence], dict]:
         """The digest's sentences and facts about how they were found."""
@@ -131,7 +146,7 @@ class DigestSummarizer:
         order = rank_by_score(scores, list(range(len(pooled.texts))))
         groups = near_duplicate_groups(order, rows, self.duplicate_threshold)
         leaders = rank_by_score(scores, list(groups))
-        ranked = mmr_order(scores, rows, leaders, self.mmr_lambda)
+        ranked = self._capped(mmr_order(scores, rows, leaders, self.mmr_lambda), pooled.documents)
         chosen = set(self.budget.select(ranked, pooled.words))
         ranked_chosen = [i for i in ranked if i in chosen]
         details["merged_near_duplicates"] = sum(len(groups[i]) for i in ranked_chosen)

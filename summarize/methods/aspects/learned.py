@@ -211,7 +211,7 @@ class LearnedAspectSummarizer:
         """``P`` per sentence (0 for non-candidates), ``evidence(s)``, TF-IDF vectors."""
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        candidates = answer_candidates(segmentation, words, self.min_words, self.unlearned_.max_words)
+        candidates = answer_candidates(segmentation, texts, words, self.min_words, self.unlearned_.max_words)
         columns, evidence, vectors = self._aspect_columns(document, segmentation, aspect)
         probabilities = np.zeros(len(texts))
         if candidates:

@@ -18,11 +18,17 @@ from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, s
 ASPECT_BUDGET = Budget(sentences=2)
 
 
-def answer_candidates(segmentation: Segmentation, words: list[int], min_words: int, max_words: int) -> list[int]:
+def answer_candidates(
+    segmentation: Segmentation, texts: list[str], words: list[int], min_words: int, max_words: int
+) -> list[int]:
     """Sentences an answer may use: selectable (no headings, at least ``min_words``
-    words) and at most ``max_words`` long — longer "sentences" are flattened tables
-    or lists, which answer nothing in a few words."""
-    return [i for i in selectable_sentences(segmentation, words, min_words) if words[i] <= max_words]
+    words), at most ``max_words`` long — longer "sentences" are flattened tables or
+    lists, which answer nothing in a few words — and not ending in a colon (a line
+    that introduces a list says nothing by itself)."""
+    return [
+        i for i in selectable_sentences(segmentation, words, min_words)
+        if words[i] <= max_words and not texts[i].rstrip().endswith(":")
+    ]
 
 
 def aspect_params(params: dict, aspect: Aspect) -> dict:
@@ -117,7 +123,7 @@ class AspectSummarizer:
         words = [count_words(t) for t in texts]
         evidence, _ = self.evidence(texts, aspect)
         candidates = [
-            i for i in answer_candidates(segmentation, words, self.min_words, self.max_words)
+            i for i in answer_candidates(segmentation, texts, words, self.min_words, self.max_words)
             if evidence[i] >= self.min_evidence
         ]
         best = float(evidence.max()) if len(evidence) else 0.0
