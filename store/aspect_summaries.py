@@ -9,97 +9,112 @@ import json
 import sqlite_utils
 
 from store.aspect_records import AspectSummary
-from store.writes import Store, now
+from store.runs import now
 
 
-def documents_with_aspect_summary(db: sqlite_utils.Database, aspect: str, method: str, param_hash: str) -> set[int]:
-    return {
-        row[0]
-        for row in db.execute(
-            "select document_id from aspect_summaries where aspect = ? and method = ? and param_hash = ?",
-            [aspect, method, param_hash],
-        )
-    }
+class AspectSummaries:
+    """The ``aspect_summaries`` and ``aspect_sentences`` tables (``store.aspects``)."""
 
+    def __init__(self, db: sqlite_utils.Database):
+        self.db = db
 
-def add_aspect_summary(store: Store, document_id: int, run_id: int, summary: AspectSummary) -> tuple[int, bool]:
-    """Store an aspect summary with its spans; returns ``(id, added)`` (an existing one is kept)."""
-    with store.transaction():
-        row = store.db.execute(
-            "select id from aspect_summaries where document_id = ? and aspect = ? and method = ? and param_hash = ?",
-            [document_id, summary.aspect, summary.method, summary.param_hash],
-        ).fetchone()
-        if row:
-            return row[0], False
-        summary_id = store.db.conn.execute(
-            "insert into aspect_summaries (document_id, aspect, method, param_hash, params, addressed, confidence, "
-            "details, run_id, created) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
-            [
-                document_id, summary.aspect, summary.method, summary.param_hash,
-                json.dumps(summary.params, sort_keys=True, default=str), int(summary.addressed), summary.confidence,
-                json.dumps(summary.details, sort_keys=True, default=str), run_id, now(),
-            ],
-        ).lastrowid
-        store.db.conn.executemany(
-            'insert into aspect_sentences (aspect_summary_id, position, start, "end", score) values (?, ?, ?, ?, ?)',
-            [
-                (summary_id, position, sentence.sources[0].span.start, sentence.sources[0].span.end, sentence.score)
-                for position, sentence in enumerate(summary.sentences)
-            ],
-        )
-    return summary_id, True
+    def done(self, aspect: str, method: str, param_hash: str) -> set[int]:
+        """Ids of the documents already answered for this aspect, method and parameters."""
+        return {
+            row[0]
+            for row in self.db.execute(
+                "select document_id from aspect_summaries where aspect = ? and method = ? and param_hash = ?",
+                [aspect, method, param_hash],
+            )
+        }
 
+    def add(self, document_id: int, run_id: int, summary: AspectSummary) -> tuple[int, bool]:
+        """Store an aspect summary with its spans; returns ``(id, added)`` (an existing one is kept)."""
+        with self.db.atomic():
+            row = self.db.execute(
+                "select id from aspect_summaries where document_id = ? and aspect = ? and method = ? "
+                "and param_hash = ?",
+                [document_id, summary.aspect, summary.method, summary.param_hash],
+            ).fetchone()
+            if row:
+                return row[0], False
+            summary_id = self.db.conn.execute(
+                "insert into aspect_summaries (document_id, aspect, method, param_hash, params, addressed, "
+                "confidence, details, run_id, created) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                [
+                    document_id, summary.aspect, summary.method, summary.param_hash,
+                    json.dumps(summary.params, sort_keys=True, default=str), int(summary.addressed),
+                    summary.confidence, json.dumps(summary.details, sort_keys=True, default=str), run_id, now(),
+                ],
+            ).lastrowid
+            self.db.conn.executemany(
+                'insert into aspect_sentences (aspect_summary_id, position, start, "end", score) '
+                "values (?, ?, ?, ?, ?)",
+                [
+                    (summary_id, position, sentence.sources[0].span.start, sentence.sources[0].span.end,
+                     sentence.score)
+                    for position, sentence in enumerate(summary.sentences)
+                ],
+            )
+        return summary_id, True
 
-def aspect_summary_rows(
-    db: sqlite_utils.Database,
-    document_ids: list[int] | None = None,
-    aspects: list[str] | None = None,
-    method: str | None = None,
-    param_hashes: list[str] | None = None,
-) -> list[dict]:
-    """Stored aspect summaries of current documents, by document then aspect: each
-    with its sentences (text sliced from the document, span, score)."""
-    sql = """
-        select a.id, a.document_id, d.record_key, d.title, d.date, a.aspect, a.method, a.param_hash,
-               a.addressed, a.confidence, a.details, a.run_id, d.text
-        from aspect_summaries a join documents d on d.id = a.document_id
-        where d.status != 'replaced'
-    """
-    params: list = []
-    for column, values in (("a.document_id", document_ids), ("a.aspect", aspects), ("a.param_hash", param_hashes)):
-        if values:
-            sql += f" and {column} in ({', '.join('?' for _ in values)})"
-            params += list(values)
-    if method:
-        sql += " and a.method = ?"
-        params.append(method)
-    rows = []
-    for (summary_id, document_id, record_key, title, date, aspect, method_name, p_hash, addressed, confidence,
-         details, run_id, text) in db.execute(sql + " order by d.record_key, a.aspect, a.id", params).fetchall():
-        sentences = [
-            {"position": position, "start": start, "end": end, "score": score, "text": text[start:end]}
-            for position, start, end, score in db.execute(
-                'select position, start, "end", score from aspect_sentences where aspect_summary_id = ? '
-                "order by position",
-                [summary_id],
-            ).fetchall()
-        ]
-        rows.append(
-            {
-                "aspect_summary_id": summary_id,
-                "document_id": document_id,
-                "record_key": record_key,
-                "title": title,
-                "date": date,
-                "aspect": aspect,
-                "method": method_name,
-                "param_hash": p_hash,
-                "addressed": bool(addressed),
-                "confidence": confidence,
-                "details": json.loads(details or "{}"),
-                "run_id": run_id,
-                "text": " ".join(s["text"].strip() for s in sentences),
-                "sentences": sentences,
-            }
-        )
-    return rows
+    def rows(
+        self,
+        document_ids: list[int] | None = None,
+        aspects: list[str] | None = None,
+        method: str | None = None,
+        param_hashes: list[str] | None = None,
+    ) -> list[dict]:
+        """Stored aspect summaries of current documents, by document then aspect: each
+        with its sentences (text sliced from the document, span, score), as plain
+        JSON-ready rows."""
+        sql = """
+            select a.id, a.document_id, d.record_key, d.title, d.date, a.aspect, a.method, a.param_hash,
+                   a.addressed, a.confidence, a.details, a.run_id, d.text
+            from aspect_summaries a join documents d on d.id = a.document_id
+            where d.status != 'replaced'
+        """
+        params: list = []
+        for column, values in (("a.document_id", document_ids), ("a.aspect", aspects), ("a.param_hash", param_hashes)):
+            if values:
+                sql += f" and {column} in ({', '.join('?' for _ in values)})"
+                params += list(values)
+        if method:
+            sql += " and a.method = ?"
+            params.append(method)
+        found = self.db.execute(sql + " order by d.record_key, a.aspect, a.id", params).fetchall()
+        spans: dict[int, list[tuple]] = {}
+        if found:
+            ids = [row[0] for row in found]
+            for summary_id, position, start, end, score in self.db.execute(
+                'select aspect_summary_id, position, start, "end", score from aspect_sentences '
+                f"where aspect_summary_id in ({', '.join('?' for _ in ids)}) order by aspect_summary_id, position",
+                ids,
+            ).fetchall():
+                spans.setdefault(summary_id, []).append((position, start, end, score))
+        rows = []
+        for (summary_id, document_id, record_key, title, date, aspect, method_name, p_hash, addressed, confidence,
+             details, run_id, text) in found:
+            sentences = [
+                {"position": position, "start": start, "end": end, "score": score, "text": text[start:end]}
+                for position, start, end, score in spans.get(summary_id, [])
+            ]
+            rows.append(
+                {
+                    "aspect_summary_id": summary_id,
+                    "document_id": document_id,
+                    "record_key": record_key,
+                    "title": title,
+                    "date": date,
+                    "aspect": aspect,
+                    "method": method_name,
+                    "param_hash": p_hash,
+                    "addressed": bool(addressed),
+                    "confidence": confidence,
+                    "details": json.loads(details or "{}"),
+                    "run_id": run_id,
+                    "text": " ".join(s["text"].strip() for s in sentences),
+                    "sentences": sentences,
+                }
+            )
+        return rows

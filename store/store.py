@@ -10,6 +10,8 @@ through this object.
     store.exports.rows()                        # the rows every export is made of
     store.models.latest("house-style")          # trained methods kept with the store
     store.runs.begin("score", config)           # run bookkeeping (see store/runs.py)
+    store.aspects.rows(document_ids)            # aspect summaries
+    store.digests.record("incident-causes")     # digests across documents
     store.add_summary(document_id, run_id, summary)   # writes (see store/writes.py)
 
 Each concern lives in its own module and reaches the database through the handle's
@@ -22,6 +24,8 @@ from contextlib import contextmanager
 
 import sqlite_utils
 
+from store.aspect_summaries import AspectSummaries
+from store.digests import Digests
 from store.documents import DocumentReads
 from store.evaluation import EvaluationStore
 from store.exports import ExportReads
@@ -50,6 +54,8 @@ class Store(StoreWrites):
         self.exports = ExportReads(self.db, self.references)
         self.models = LearnedModels(self.db)
         self.runs = RunLog(self.db)
+        self.aspects = AspectSummaries(self.db)
+        self.digests = Digests(self.db)
 
     def close(self) -> None:
         self.db.close()

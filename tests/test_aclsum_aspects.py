@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import pytest
 
-from store.writes import Store
+from store import Store
 from summarize.evaluation.aspect_scores import GENERIC_METHODS, score_aspect_systems, tune_learned, unlearned
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
@@ -70,7 +70,7 @@ def test_aspect_oracle_is_above_every_method(systems):
 def test_training_in_a_store_cross_validates_and_keeps_the_model(tmp_path):
     db_path = str(tmp_path / "aspects.sqlite")
     store = Store(db_path)
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     for document in load_aclsum_aspects("val", limit=24):
         store.add_document(document, line_segmentation(document), run_id)
     store.close()

@@ -11,10 +11,9 @@ from dataclasses import replace
 import pytest
 from click.testing import CliRunner
 
+from store import Store
 from store.aspect_records import DocumentSelection
-from store.digests import select_documents
 from store.schema import SCHEMA_VERSION, open_database
-from store.writes import Store
 from summarize.cli import main
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
 from summarize.methods.aspects.relevance import QueryRelevance
@@ -29,10 +28,10 @@ PAPERS = 14
 
 def _store_papers(db_path: str, documents) -> None:
     store = Store(db_path)
-    run_id = store.begin_run("test", {})
+    run_id = store.runs.begin("test", {})
     for document in documents:
         store.add_document(document, line_segmentation(document), run_id)
-    store.finish_run(run_id, "completed", {})
+    store.runs.finish(run_id, "completed", {})
     store.close()
 
 
@@ -139,14 +138,14 @@ def test_a_changed_archive_makes_a_new_version_and_the_old_one_stays(paper_store
 
 def test_selection_by_query_folder_dates_and_status(paper_store):
     db_path, documents, _ = paper_store
-    db = open_database(db_path)
+    db = Store(db_path)
     title_word = documents[2].title.split()[0]
-    by_query = {i for i, _ in select_documents(db, DocumentSelection(query=title_word))}
-    assert by_query and all(title_word.lower() in db["documents"].get(i)["title"].lower() for i in by_query)
-    assert len(select_documents(db, DocumentSelection(folder="aclsum/val"))) == PAPERS
-    assert len(select_documents(db, DocumentSelection(folder="aclsum"))) == PAPERS + 1
-    assert len(select_documents(db, DocumentSelection(until="2011"))) == 2
-    assert select_documents(db, DocumentSelection(status="missing")) == []
+    by_query = {i for i, _ in db.digests.select(DocumentSelection(query=title_word))}
+    assert by_query and all(title_word.lower() in db.queries.resolve(str(i))["title"].lower() for i in by_query)
+    assert len(db.digests.select(DocumentSelection(folder="aclsum/val"))) == PAPERS
+    assert len(db.digests.select(DocumentSelection(folder="aclsum"))) == PAPERS + 1
+    assert len(db.digests.select(DocumentSelection(until="2011"))) == 2
+    assert db.digests.select(DocumentSelection(status="missing")) == []
 
 
 def test_cli_aspects_and_digest_commands(paper_store, tmp_path):

@@ -16,15 +16,11 @@ from dataclasses import dataclass, field
 import numpy as np
 from sklearn.model_selection import KFold
 
-from store.aspect_summaries import add_aspect_summary, aspect_summary_rows, documents_with_aspect_summary
-from store.documents import stored_document
+from store import Store
 from store.errors import SummarizerError, UsageError
-from store.evaluation import active_texts
-from store.learned_models import latest_learned_model, save_learned_model
-from store.lock import StoreLock
-from store.queries import DocumentNotFound, resolve_document
+from store.queries import DocumentNotFound
 from store.records import param_hash
-from store.writes import Store
+from store.runs import recorded_run
 from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.rouge import RougeMetric
 from summarize.methods.aspects.definitions import REPORT_ASPECTS, Aspect, aspects_from_mapping
@@ -71,11 +67,11 @@ class AspectOutcome:
 
 def _document_ids(store: Store, references: list[str] | None) -> list[int]:
     if not references:
-        return [row[0] for row in store.db.execute("select id from documents where status = 'active' order by id")]
+        return sorted(version.id for version in store.documents.active())
     ids = []
     for reference in references:
         try:
-            ids.append(resolve_document(store.db, reference)["id"])
+            ids.append(store.queries.resolve(reference)["id"])
         except DocumentNotFound as error:
             raise UsageError(str(error)) from None
     return ids
@@ -83,9 +79,9 @@ def _document_ids(store: Store, references: list[str] | None) -> list[int]:
 
 def _summarizer(store: Store, method: str, budget: Budget):
     if method == "aspect-lexrank":
-        return AspectSummarizer(budget=budget).fit(active_texts(store.db))
+        return AspectSummarizer(budget=budget).fit(store.documents.active_texts())
     if method == "aspect-learned":
-        model = latest_learned_model(store.db, "aspect-learned")
+        model = store.models.latest("aspect-learned")
         if model is None:
             raise AspectModelMissing(
                 f"{store.path}: no trained aspect-learned model in the store (train one with `summarize aspects train`)"
@@ -109,36 +105,32 @@ def summarize_aspects(
     is None; else ids, record keys or paths), store what is missing and return every
     requested aspect summary as a row. A rerun adds nothing."""
     started = time.perf_counter()
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        store = Store(db_path)
-        try:
-            document_ids = _document_ids(store, documents)
-            summarizer = _summarizer(store, method, budget)
-            run_id = store.begin_run("aspects", {"method": method, "budget": budget.as_dict(),
-                                                 "aspects": [a.as_dict() for a in aspects]})
-            added = kept = 0
-            hashes = []
-            for aspect in aspects:
-                p_hash = param_hash(f"{method}:{aspect.name}", aspect_params(summarizer.get_params(), aspect))
-                hashes.append(p_hash)
-                done = documents_with_aspect_summary(store.db, aspect.name, method, p_hash)
-                for document_id in document_ids:
-                    if document_id in done:
-                        kept += 1
-                        continue
-                    document, segmentation = stored_document(store.db, document_id)
-                    add_aspect_summary(store, document_id, run_id, summarizer.summarize(document, segmentation, aspect))
-                    added += 1
-                if progress:
-                    progress(f"aspect {aspect.name}: {len(document_ids)} documents")
-            outcome = AspectOutcome(run_id, method, added, kept, time.perf_counter() - started)
-            store.finish_run(run_id, "completed", {"added": added, "kept": kept})
-            rows = aspect_summary_rows(store.db, document_ids, [a.name for a in aspects], method, hashes)
-            order = {aspect.name: index for index, aspect in enumerate(aspects)}
-            outcome.rows = sorted(rows, key=lambda row: (row["record_key"], order[row["aspect"]]))
-            return outcome
-        finally:
-            store.close()
+    config = {"method": method, "budget": budget.as_dict(), "aspects": [a.as_dict() for a in aspects]}
+    with recorded_run(db_path, "aspects", config, lock_wait_seconds, progress) as run:
+        store = run.store
+        document_ids = _document_ids(store, documents)
+        summarizer = _summarizer(store, method, budget)
+        added = kept = 0
+        hashes = []
+        for aspect in aspects:
+            p_hash = param_hash(f"{method}:{aspect.name}", aspect_params(summarizer.get_params(), aspect))
+            hashes.append(p_hash)
+            done = store.aspects.done(aspect.name, method, p_hash)
+            for document_id in document_ids:
+                if document_id in done:
+                    kept += 1
+                    continue
+                document, segmentation = store.documents.load(document_id)
+                store.aspects.add(document_id, run.run_id, summarizer.summarize(document, segmentation, aspect))
+                added += 1
+            if progress:
+                progress(f"aspect {aspect.name}: {len(document_ids)} documents")
+        run.counts = {"added": added, "kept": kept}
+        outcome = AspectOutcome(run.run_id, method, added, kept, time.perf_counter() - started)
+        rows = store.aspects.rows(document_ids, [a.name for a in aspects], method, hashes)
+    order = {aspect.name: index for index, aspect in enumerate(aspects)}
+    outcome.rows = sorted(rows, key=lambda row: (row["record_key"], order[row["aspect"]]))
+    return outcome
 
 
 @dataclass
@@ -196,34 +188,29 @@ def train_aspects(
     held-out comparison with the unlearned method, then a model on all of them, kept
     in the store for ``summarize_aspects(method="aspect-learned")``."""
     started = time.perf_counter()
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        store = Store(db_path)
-        try:
-            ids = [row[0] for row in store.db.execute("select id from documents where status = 'active' order by id")]
-            examples, example_ids = [], []
-            for document_id in ids:
-                document, segmentation = stored_document(store.db, document_id)
-                if aspect_references(document, aspects):
-                    examples.append((document, segmentation))
-                    example_ids.append(document_id)
-            needed = max(MIN_TRAINING_DOCUMENTS, 2 * folds)
-            if len(examples) < needed:
-                raise TooFewAspectReferences(
-                    f"{db_path}: {len(examples)} documents have aspect-labelled references; training needs at least "
-                    f"{needed} (sections such as 'Cause:' in the reference summary, or JSON fields named after aspects)"
-                )
-            run_id = store.begin_run("aspects train", {"folds": folds, "seed": seed,
-                                                       "aspects": [a.as_dict() for a in aspects]})
-            learned = LearnedAspectSummarizer(aspects=aspects, seed=seed).fit_features(active_texts(store.db))
-            if progress:
-                progress(f"cross-validating on {len(examples)} documents ({folds} folds)")
-            held_out = cross_validated_rouge(examples, aspects, learned, folds, seed)
-            learned.fit_rows(learned.labelled_rows(examples))
-            learned.budget = ASPECT_BUDGET
-            model_id = save_learned_model(store.db, learned, run_id, example_ids, list(ASPECT_FEATURE_NAMES),
-                                          {"held_out_rouge1_f1": held_out, "folds": folds})
-            store.finish_run(run_id, "completed", {"documents": len(examples), "model_id": model_id})
-            return AspectTraining(run_id, model_id, dict(learned.training_documents_), folds, held_out,
-                                  time.perf_counter() - started)
-        finally:
-            store.close()
+    config = {"folds": folds, "seed": seed, "aspects": [a.as_dict() for a in aspects]}
+    with recorded_run(db_path, "train-aspects", config, lock_wait_seconds, progress) as run:
+        store = run.store
+        examples, example_ids = [], []
+        for document_id in sorted(version.id for version in store.documents.active()):
+            document, segmentation = store.documents.load(document_id)
+            if aspect_references(document, aspects):
+                examples.append((document, segmentation))
+                example_ids.append(document_id)
+        needed = max(MIN_TRAINING_DOCUMENTS, 2 * folds)
+        if len(examples) < needed:
+            raise TooFewAspectReferences(
+                f"{db_path}: {len(examples)} documents have aspect-labelled references; training needs at least "
+                f"{needed} (sections such as 'Cause:' in the reference summary, or JSON fields named after aspects)"
+            )
+        learned = LearnedAspectSummarizer(aspects=aspects, seed=seed).fit_features(store.documents.active_texts())
+        if progress:
+            progress(f"cross-validating on {len(examples)} documents ({folds} folds)")
+        held_out = cross_validated_rouge(examples, aspects, learned, folds, seed)
+        learned.fit_rows(learned.labelled_rows(examples))
+        learned.budget = ASPECT_BUDGET
+        model_id = store.models.save(learned, run.run_id, example_ids, list(ASPECT_FEATURE_NAMES),
+                                     {"held_out_rouge1_f1": held_out, "folds": folds})
+        run.counts = {"documents": len(examples), "model_id": model_id}
+        return AspectTraining(run.run_id, model_id, dict(learned.training_documents_), folds, held_out,
+                              time.perf_counter() - started)

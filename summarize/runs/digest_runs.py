@@ -16,21 +16,11 @@ import time
 from collections.abc import Callable
 from dataclasses import dataclass
 
+from store import Store
 from store.aspect_records import Digest, DocumentSelection
-from store.digests import (
-    DigestNotFound,
-    add_digest,
-    digest_fingerprint,
-    digest_list,
-    digest_record,
-    latest_digest,
-    select_documents,
-)
-from store.documents import stored_document
+from store.digests import DigestNotFound, digest_fingerprint
 from store.errors import SummarizerError
-from store.lock import StoreLock
-from store.schema import open_database
-from store.writes import Store
+from store.runs import recorded_run, writable_store
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.budget import Budget
 from summarize.methods.digests import DigestSummarizer
@@ -93,38 +83,35 @@ def make_digest(
     summarizer = summarizer or DigestSummarizer()
     settings = digest_settings(summarizer, aspect)
     name = name or default_name(selection, settings)
-    with StoreLock(db_path, wait_seconds=lock_wait_seconds, on_wait=progress):
-        store = Store(db_path)
-        try:
-            documents = select_documents(store.db, selection)
-            if not documents:
-                raise EmptySelection(f"{db_path}: the selection ({selection.describe() or 'everything'}) matches no document")
-            latest = latest_digest(store.db, name)
-            if latest and latest["fingerprint"] == digest_fingerprint(documents, selection.as_dict(), settings):
-                return DigestOutcome(name, latest["id"], latest["version"], False, len(documents),
-                                     time.perf_counter() - started, digest_record(store.db, name))
-            if progress:
-                progress(f"digest {name}: {len(documents)} documents")
-            loaded = [(document_id, *stored_document(store.db, document_id)) for document_id, _ in documents]
-            sentences, details = summarizer.summarize(loaded, aspect)
-            run_id = store.begin_run("digest", {"name": name, "selection": selection.as_dict(), "settings": settings})
-            digest = Digest(name, selection.as_dict(), settings, documents, sentences, details)
-            digest_id, version, added = add_digest(store, digest, run_id)
-            store.finish_run(run_id, "completed", {"digest_id": digest_id, "version": version, "added": added})
-            return DigestOutcome(name, digest_id, version, added, len(documents), time.perf_counter() - started,
-                                 digest_record(store.db, name))
-        finally:
-            store.close()
+    with writable_store(db_path, lock_wait_seconds, progress) as (store, _lock):
+        documents = store.digests.select(selection)
+        if not documents:
+            raise EmptySelection(f"{db_path}: the selection ({selection.describe() or 'everything'}) matches no document")
+        latest = store.digests.latest(name)
+        if latest and latest["fingerprint"] == digest_fingerprint(documents, selection.as_dict(), settings):
+            return DigestOutcome(name, latest["id"], latest["version"], False, len(documents),
+                                 time.perf_counter() - started, store.digests.record(name))
+    config = {"name": name, "selection": selection.as_dict(), "settings": settings}
+    with recorded_run(db_path, "digest", config, lock_wait_seconds, progress) as run:
+        store = run.store
+        # Resolved again under this run's lock: the archive may have changed in between.
+        documents = store.digests.select(selection)
+        if progress:
+            progress(f"digest {name}: {len(documents)} documents")
+        loaded = [(document_id, *store.documents.load(document_id)) for document_id, _ in documents]
+        sentences, details = summarizer.summarize(loaded, aspect)
+        digest = Digest(name, selection.as_dict(), settings, documents, sentences, details)
+        digest_id, version, added = store.digests.add(digest, run.run_id)
+        run.counts = {"digest_id": digest_id, "version": version, "added": added, "documents": len(documents)}
+        return DigestOutcome(name, digest_id, version, added, len(documents), time.perf_counter() - started,
+                             store.digests.record(name))
 
 
 def rerun_digest(db_path: str, name: str, lock_wait_seconds: float = 0.0,
                  progress: Callable[[str], None] | None = None) -> DigestOutcome:
     """Make the digest ``name`` again with its stored selection and settings."""
-    db = open_database(db_path)
-    try:
-        latest = latest_digest(db, name)
-    finally:
-        db.close()
+    with Store(db_path, read_only=True) as store:
+        latest = store.digests.latest(name)
     if latest is None:
         raise UnknownDigest(f"{db_path}: no digest named {name!r}")
     summarizer, aspect = summarizer_from_settings(latest["settings"])
@@ -133,18 +120,13 @@ def rerun_digest(db_path: str, name: str, lock_wait_seconds: float = 0.0,
 
 
 def read_digest(db_path: str, name: str, version: int | None = None) -> dict:
-    db = open_database(db_path)
-    try:
-        return digest_record(db, name, version)
-    except DigestNotFound as error:
-        raise UnknownDigest(f"{db_path}: {error}") from None
-    finally:
-        db.close()
+    with Store(db_path, read_only=True) as store:
+        try:
+            return store.digests.record(name, version)
+        except DigestNotFound as error:
+            raise UnknownDigest(f"{db_path}: {error}") from None
 
 
 def list_digests(db_path: str) -> list[dict]:
-    db = open_database(db_path)
-    try:
-        return digest_list(db)
-    finally:
-        db.close()
+    with Store(db_path, read_only=True) as store:
+        return store.digests.newest()
