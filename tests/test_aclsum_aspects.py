@@ -14,9 +14,13 @@ above every method.
 
 from __future__ import annotations
 
+import json
+
 import pytest
+from click.testing import CliRunner
 
 from store import Store
+from summarize.cli import main
 from summarize.evaluation.aspect_scores import GENERIC_METHODS, score_aspect_systems, tune_learned, unlearned
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
@@ -82,3 +86,13 @@ def test_training_in_a_store_cross_validates_and_keeps_the_model(tmp_path):
     assert answers.added == 3 and all(row["method"] == "aspect-learned" for row in answers.rows)
     assert all(0 <= row["confidence"] <= 1 for row in answers.rows)
     assert summarize_aspects(db_path, ["1"], PAPER_ASPECTS, method="aspect-learned").added == 0
+    job = tmp_path / "papers.toml"
+    job.write_text("".join(
+        f'[aspects.{a.name}]\nquestion = "{a.question}"\nphrases = {json.dumps(list(a.phrases))}\n\n'
+        for a in PAPER_ASPECTS
+    ))
+    result = CliRunner().invoke(main, ["train-aspects", "--db", db_path, "--job", str(job), "--folds", "3", "--json"])
+    assert result.exit_code == 0, result.output
+    assert json.loads(result.stdout)["model_id"] == outcome.model_id + 1
+    result = CliRunner().invoke(main, ["train-aspects", "--db", str(tmp_path / "empty.sqlite")])
+    assert result.exit_code == 1 and "no such store" in result.output

@@ -4,6 +4,7 @@ al. 2024; the ``aclsum`` package), stored as a run stores documents."""
 
 from __future__ import annotations
 
+import html
 import json
 import sqlite3
 from dataclasses import replace
@@ -180,3 +181,23 @@ def test_the_store_stays_readable_by_plain_sqlite(paper_store):
     with sqlite3.connect(db_path) as connection:
         assert connection.execute("pragma integrity_check").fetchone()[0] == "ok"
         assert connection.execute("select count(*) from digest_sentences").fetchone()[0] > 0
+
+
+@pytest.mark.parametrize("fmt", ["md", "html", "json"])
+def test_digest_files_carry_the_caution_and_escape_document_text(tmp_path, fmt):
+    from summarize.output.answers import write_digest
+    from summarize.output.caution import CAUTION
+
+    citation = {"document_id": 7, "record_key": "/archive/INC-1.html", "title": "t", "date": "2025-01-02",
+                "start": 0, "end": 30, "similarity": 1.0, "text": "Portal ran <script>alert(1)</script>"}
+    record = {"digest_id": 1, "name": "x", "version": 1, "selection": {"query": "portal"}, "settings": {"aspect": None},
+              "documents": [7], "details": {}, "run_id": 1, "created": "2025-01-03",
+              "sentences": [{"position": 0, "score": 0.5, "text": citation["text"], "citations": [citation]}]}
+    out = write_digest(record, fmt, str(tmp_path / f"digest.{fmt}"))
+    text = out.read_text(encoding="utf-8")
+    caution = {"md": CAUTION, "html": html.escape(CAUTION)}.get(fmt)
+    assert (caution in text) if caution else json.loads(text)["caution"] == CAUTION
+    assert "INC-1.html" in text
+    if fmt == "html":
+        assert "<script>" not in text and "&lt;script&gt;" in text
+    assert [p.name for p in tmp_path.iterdir()] == [f"digest.{fmt}"]
