@@ -1,0 +1,75 @@
+"""The demo's aspect table and digest, as `make demo` makes them: structure only
+(spans, counts, reruns), no numbers the invented archive alone produces."""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from store import Store
+from summarize.cli import main
+from summarize.methods.aspects.definitions import REPORT_ASPECTS
+from summarize.methods.aspects.references import aspect_references
+
+ROOT = Path(__file__).resolve().parent.parent
+INCIDENT = "demo_archive/incidents/INC-2024-019_ps4_pump_bearing_failure.pdf"
+
+
+@pytest.fixture(scope="module")
+def demo_store(tmp_path_factory):
+    db = tmp_path_factory.mktemp("demo-answers") / "store.sqlite"
+    previous = os.getcwd()
+    os.chdir(ROOT)  # the Makefile's relative paths
+    try:
+        CliRunner().invoke(main, ["run", "demo_archive", "--db", str(db), "--methods", "lead", "--quiet"])
+        yield db
+    finally:
+        os.chdir(previous)
+
+
+def test_six_demo_reports_carry_aspect_labelled_references(demo_store):
+    with Store(str(demo_store), read_only=True) as store:
+        labelled = {}
+        for version in store.documents.active():
+            document, _ = store.documents.load(version.id)
+            found = aspect_references(document, REPORT_ASPECTS)
+            if found:
+                labelled[Path(document.path).name] = set(found)
+    assert len(labelled) == 6
+    assert labelled["INC-2024-019_ps4_pump_bearing_failure.pdf"] == {"cause", "actions", "open_items"}
+
+
+def test_the_demo_aspect_table_and_digest(demo_store, tmp_path):
+    runner = CliRunner()
+    previous = os.getcwd()
+    os.chdir(ROOT)
+    try:
+        table = runner.invoke(main, ["aspects", INCIDENT, "--db", str(demo_store)])
+        answers = runner.invoke(main, ["aspects", INCIDENT, "--db", str(demo_store), "--json"])
+        out = tmp_path / "digest.html"
+        digest = runner.invoke(main, ["digest", "new", "--db", str(demo_store), "--name", "incident-causes",
+                                      "--folder", "demo_archive/incidents", "--aspect", "cause", "--budget", "6",
+                                      "--out", str(out), "--json"])
+        again = runner.invoke(main, ["digest", "rerun", "incident-causes", "--db", str(demo_store), "--json"])
+    finally:
+        os.chdir(previous)
+    assert table.exit_code == 0 and "INC-2024-019" in table.stdout
+    assert all(label in table.stdout for label in ("cause", "actions", "open items"))
+    payload = json.loads(answers.stdout)
+    assert payload["added"] == 0 and payload["kept"] == 3  # the table run stored them
+    with Store(str(demo_store), read_only=True) as store:
+        for row in payload["aspect_summaries"]:
+            text = store.documents.text(row["document_id"])
+            assert all(text[s["start"]:s["end"]] == s["text"] for s in row["sentences"])
+        record = json.loads(digest.stdout)["digest"]
+        assert 0 < len(record["sentences"]) <= 6 and out.exists()
+        incident_ids = {store.queries.resolve(str(i))["id"] for i in record["documents"]}
+        for sentence in record["sentences"]:
+            for citation in sentence["citations"]:
+                assert citation["document_id"] in incident_ids
+                assert store.documents.text(citation["document_id"])[citation["start"]:citation["end"]] == citation["text"]
+    assert json.loads(again.stdout)["added"] is False
