@@ -9,7 +9,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import asdict, dataclass, field
 
 from store.records import Span, SummarySentence, param_hash
 
@@ -94,3 +94,105 @@ class DocumentSelection:
     def describe(self) -> str:
         parts = [f"{key} {value!r}" for key, value in self.as_dict().items()]
         return ", ".join(parts)
+
+
+# What the store gives back -----------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class AnswerSentence:
+    """One sentence of a stored aspect summary: its span and the text it slices."""
+
+    position: int
+    start: int
+    end: int
+    score: float
+    text: str
+
+
+@dataclass(frozen=True)
+class StoredAnswer:
+    """A stored aspect summary of a current document."""
+
+    aspect_summary_id: int
+    document_id: int
+    record_key: str
+    title: str | None
+    date: str | None
+    aspect: str
+    method: str
+    param_hash: str
+    addressed: bool
+    confidence: float
+    details: dict
+    run_id: int | None
+    sentences: tuple[AnswerSentence, ...]
+
+    @property
+    def text(self) -> str:
+        return " ".join(s.text.strip() for s in self.sentences)
+
+    def as_dict(self) -> dict:
+        return asdict(self) | {"text": self.text}
+
+
+@dataclass(frozen=True)
+class CitedSpan:
+    """A citation read back: the document, the span and the text it slices."""
+
+    document_id: int
+    record_key: str
+    title: str | None
+    date: str | None
+    start: int
+    end: int
+    similarity: float
+    text: str
+
+
+@dataclass(frozen=True)
+class DigestLine:
+    position: int
+    score: float
+    text: str
+    citations: tuple[CitedSpan, ...]
+
+
+@dataclass(frozen=True)
+class StoredDigest:
+    """One stored version of a named digest, with its sentences and citations."""
+
+    digest_id: int
+    name: str
+    version: int
+    selection: dict
+    settings: dict
+    documents: list[int]
+    details: dict
+    run_id: int | None
+    created: str
+    sentences: tuple[DigestLine, ...]
+
+    def as_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass(frozen=True)
+class DigestVersion:
+    """What a rerun compares: the newest version's selection, settings and fingerprint."""
+
+    id: int
+    version: int
+    selection: dict
+    settings: dict
+    fingerprint: str
+
+
+@dataclass(frozen=True)
+class DigestListing:
+    name: str
+    version: int
+    created: str
+    selection: dict
+    documents: int
+    sentences: int

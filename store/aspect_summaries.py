@@ -8,7 +8,7 @@ import json
 
 import sqlite_utils
 
-from store.aspect_records import AspectSummary
+from store.aspect_records import AnswerSentence, AspectSummary, StoredAnswer
 from store.runs import now
 
 
@@ -64,10 +64,9 @@ class AspectSummaries:
         aspects: list[str] | None = None,
         method: str | None = None,
         param_hashes: list[str] | None = None,
-    ) -> list[dict]:
-        """Stored aspect summaries of current documents, by document then aspect: each
-        with its sentences (text sliced from the document, span, score), as plain
-        JSON-ready rows."""
+    ) -> list[StoredAnswer]:
+        """Stored aspect summaries of current documents, by document then aspect, each
+        with its sentences (span, score, the text it slices from the document)."""
         sql = """
             select a.id, a.document_id, d.record_key, d.title, d.date, a.aspect, a.method, a.param_hash,
                    a.addressed, a.confidence, a.details, a.run_id, d.text
@@ -95,26 +94,12 @@ class AspectSummaries:
         rows = []
         for (summary_id, document_id, record_key, title, date, aspect, method_name, p_hash, addressed, confidence,
              details, run_id, text) in found:
-            sentences = [
-                {"position": position, "start": start, "end": end, "score": score, "text": text[start:end]}
+            sentences = tuple(
+                AnswerSentence(position, start, end, score, text[start:end])
                 for position, start, end, score in spans.get(summary_id, [])
-            ]
+            )
             rows.append(
-                {
-                    "aspect_summary_id": summary_id,
-                    "document_id": document_id,
-                    "record_key": record_key,
-                    "title": title,
-                    "date": date,
-                    "aspect": aspect,
-                    "method": method_name,
-                    "param_hash": p_hash,
-                    "addressed": bool(addressed),
-                    "confidence": confidence,
-                    "details": json.loads(details or "{}"),
-                    "run_id": run_id,
-                    "text": " ".join(s["text"].strip() for s in sentences),
-                    "sentences": sentences,
-                }
+                StoredAnswer(summary_id, document_id, record_key, title, date, aspect, method_name, p_hash,
+                             bool(addressed), confidence, json.loads(details or "{}"), run_id, sentences)
             )
         return rows

@@ -14,7 +14,15 @@ import os
 
 import sqlite_utils
 
-from store.aspect_records import Digest, DocumentSelection
+from store.aspect_records import (
+    CitedSpan,
+    Digest,
+    DigestLine,
+    DigestListing,
+    DigestVersion,
+    DocumentSelection,
+    StoredDigest,
+)
 from store.runs import now
 
 
@@ -71,7 +79,7 @@ class Digests:
         return [(row[0], row[1]) for row in self.db.execute(sql, params).fetchall()]
 
 
-    def latest(self, name: str) -> dict | None:
+    def latest(self, name: str) -> DigestVersion | None:
         """The newest version of a named digest (id, version, selection, settings, fingerprint)."""
         row = self.db.execute(
             "select id, version, selection, settings, fingerprint from digests where name = ? order by version desc limit 1",
@@ -79,8 +87,7 @@ class Digests:
         ).fetchone()
         if row is None:
             return None
-        return {"id": row[0], "version": row[1], "selection": json.loads(row[2]), "settings": json.loads(row[3]),
-                "fingerprint": row[4]}
+        return DigestVersion(row[0], row[1], json.loads(row[2]), json.loads(row[3]), row[4])
 
 
     def add(self, digest: Digest, run_id: int) -> tuple[int, int, bool]:
@@ -89,9 +96,9 @@ class Digests:
         fingerprint = digest_fingerprint(digest.documents, digest.selection, digest.settings)
         with self.db.atomic():
             latest = self.latest(digest.name)
-            if latest and latest["fingerprint"] == fingerprint:
-                return latest["id"], latest["version"], False
-            version = latest["version"] + 1 if latest else 1
+            if latest and latest.fingerprint == fingerprint:
+                return latest.id, latest.version, False
+            version = latest.version + 1 if latest else 1
             digest_id = self.db.conn.execute(
                 "insert into digests (name, version, selection, settings, documents, fingerprint, details, run_id, created) "
                 "values (?, ?, ?, ?, ?, ?, ?, ?, ?)",
@@ -118,7 +125,7 @@ class Digests:
         return digest_id, version, True
 
 
-    def record(self, name: str, version: int | None = None) -> dict:
+    def record(self, name: str, version: int | None = None) -> StoredDigest:
         """A stored digest with its sentences; each sentence's text is its first
         citation's span, and every citation carries its own span text and document."""
         sql = "select id, name, version, selection, settings, documents, details, run_id, created from digests where name = ?"
@@ -134,45 +141,38 @@ class Digests:
                 + (f" (stored: {', '.join(known)})" if known else " (none stored yet)")
             )
         digest_id = row[0]
-        documents: dict[int, dict] = {}
-        sentences = []
-        for position, score in self.db.execute(
-            "select position, score from digest_sentences where digest_id = ? order by position", [digest_id]
+        citations: dict[int, list[CitedSpan]] = {}
+        # One query for every citation, with its document's identity and text.
+        for position, document_id, start, end, similarity, record_key, title, date, text in self.db.execute(
+            'select c.position, c.document_id, c.start, c."end", c.similarity, d.record_key, d.title, d.date, d.text '
+            "from digest_citations c join documents d on d.id = c.document_id "
+            "where c.digest_id = ? order by c.position, c.rank",
+            [digest_id],
         ).fetchall():
-            citations = []
-            for document_id, start, end, similarity in self.db.execute(
-                'select document_id, start, "end", similarity from digest_citations where digest_id = ? and position = ? '
-                "order by rank",
-                [digest_id, position],
-            ).fetchall():
-                if document_id not in documents:
-                    documents[document_id] = dict(zip(
-                        ("record_key", "title", "date", "text"),
-                        self.db.execute("select record_key, title, date, text from documents where id = ?", [document_id]).fetchone(),
-                    ))
-                document = documents[document_id]
-                citations.append(
-                    {"document_id": document_id, "record_key": document["record_key"], "title": document["title"],
-                     "date": document["date"], "start": start, "end": end, "similarity": similarity,
-                     "text": document["text"][start:end]}
-                )
-            sentences.append({"position": position, "score": score, "text": citations[0]["text"] if citations else "",
-                              "citations": citations})
-        return {
-            "digest_id": digest_id,
-            "name": row[1],
-            "version": row[2],
-            "selection": json.loads(row[3]),
-            "settings": json.loads(row[4]),
-            "documents": [document_id for document_id, _ in json.loads(row[5])],
-            "details": json.loads(row[6] or "{}"),
-            "run_id": row[7],
-            "created": row[8],
-            "sentences": sentences,
-        }
+            citations.setdefault(position, []).append(
+                CitedSpan(document_id, record_key, title, date, start, end, similarity, text[start:end])
+            )
+        sentences = tuple(
+            DigestLine(position, score, citations[position][0].text if citations.get(position) else "",
+                       tuple(citations.get(position, [])))
+            for position, score in self.db.execute(
+                "select position, score from digest_sentences where digest_id = ? order by position", [digest_id]
+            ).fetchall()
+        )
+        return StoredDigest(
+            digest_id=digest_id,
+            name=row[1],
+            version=row[2],
+            selection=json.loads(row[3]),
+            settings=json.loads(row[4]),
+            documents=[document_id for document_id, _ in json.loads(row[5])],
+            details=json.loads(row[6] or "{}"),
+            run_id=row[7],
+            created=row[8],
+            sentences=sentences,
+        )
 
-
-    def newest(self) -> list[dict]:
+    def newest(self) -> list[DigestListing]:
         """The newest version of every named digest."""
         rows = self.db.execute(
             "select g.name, g.version, g.created, g.selection, json_array_length(g.documents), "
@@ -180,7 +180,6 @@ class Digests:
             "from digests g where g.version = (select max(version) from digests h where h.name = g.name) order by g.name"
         ).fetchall()
         return [
-            {"name": name, "version": version, "created": created, "selection": json.loads(selection),
-             "documents": documents, "sentences": sentences}
+            DigestListing(name, version, created, json.loads(selection), documents, sentences)
             for name, version, created, selection, documents, sentences in rows
         ]

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import json
 import sys
+from dataclasses import asdict
 from pathlib import Path
 
 import click
@@ -227,7 +228,7 @@ def digest_show(name, db_path, version, out_path, fmt, as_json):
         except ValueError as error:
             raise click.BadParameter(str(error), param_hint="--format") from None
         _say(f"wrote {out_path}")
-    click.echo(json.dumps(record | {"caution": CAUTION}, indent=2, ensure_ascii=False) if as_json
+    click.echo(json.dumps(record.as_dict() | {"caution": CAUTION}, indent=2, ensure_ascii=False) if as_json
                else format_digest(record))
 
 
@@ -240,14 +241,14 @@ def digest_list_command(db_path, as_json):
 
     rows = list_digests(_existing_store(db_path))
     if as_json:
-        click.echo(json.dumps(rows, indent=2, ensure_ascii=False))
+        click.echo(json.dumps([asdict(row) for row in rows], indent=2, ensure_ascii=False))
         return
     if not rows:
         _say("no digests stored yet (make one with `summarize digest new`)")
     for row in rows:
-        selection = ", ".join(f"{k} {v}" for k, v in row["selection"].items())
-        click.echo(f"{row['name']}  version {row['version']}  {row['documents']} documents, "
-                   f"{row['sentences']} sentences  ({selection})  {row['created']}")
+        selection = ", ".join(f"{k} {v}" for k, v in row.selection.items())
+        click.echo(f"{row.name}  version {row.version}  {row.documents} documents, "
+                   f"{row.sentences} sentences  ({selection})  {row.created}")
 
 
 COMMANDS = (aspects_command, train_aspects_command, digest_group)

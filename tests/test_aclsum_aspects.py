@@ -83,8 +83,8 @@ def test_training_in_a_store_cross_validates_and_keeps_the_model(tmp_path):
     assert all(0 < v["aspect-learned"] < 1 and 0 < v["aspect-lexrank"] < 1 for v in outcome.held_out.values())
     assert outcome.documents == {"challenge": 24, "approach": 24, "outcome": 24}
     answers = summarize_aspects(db_path, ["1"], PAPER_ASPECTS, method="aspect-learned")
-    assert answers.added == 3 and all(row["method"] == "aspect-learned" for row in answers.rows)
-    assert all(0 <= row["confidence"] <= 1 for row in answers.rows)
+    assert answers.added == 3 and all(row.method == "aspect-learned" for row in answers.rows)
+    assert all(0 <= row.confidence <= 1 for row in answers.rows)
     assert summarize_aspects(db_path, ["1"], PAPER_ASPECTS, method="aspect-learned").added == 0
     job = tmp_path / "papers.toml"
     job.write_text("".join(

@@ -13,7 +13,7 @@ import pytest
 from click.testing import CliRunner
 
 from store import Store
-from store.aspect_records import DocumentSelection
+from store.aspect_records import CitedSpan, DigestLine, DocumentSelection, StoredDigest
 from store.schema import SCHEMA_VERSION, open_database
 from summarize.cli import main
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
@@ -67,10 +67,11 @@ def test_schema_version_counts_the_new_migration(tmp_path):
 def test_aspect_summaries_are_stored_with_spans_and_a_rerun_adds_nothing(paper_store):
     db_path, documents, _ = paper_store
     first = summarize_aspects(db_path, aspects=PAPER_ASPECTS)
+    first_rows = [row.as_dict() for row in first.rows]
     assert first.added == (PAPERS + 1) * 3 and first.kept == 0
     db = open_database(db_path)
     texts = dict(db.execute("select id, text from documents").fetchall())
-    for row in first.rows:
+    for row in first_rows:
         assert (row["addressed"] and row["sentences"]) or (not row["addressed"] and not row["sentences"])
         for sentence in row["sentences"]:
             assert texts[row["document_id"]][sentence["start"]:sentence["end"]] == sentence["text"]
@@ -79,7 +80,7 @@ def test_aspect_summaries_are_stored_with_spans_and_a_rerun_adds_nothing(paper_s
     again = summarize_aspects(db_path, aspects=PAPER_ASPECTS)
     assert again.added == 0 and again.kept == (PAPERS + 1) * 3
     assert db.execute("select count(*) from aspect_summaries").fetchone()[0] == counts
-    assert [r["aspect_summary_id"] for r in again.rows] == [r["aspect_summary_id"] for r in first.rows]
+    assert [r.aspect_summary_id for r in again.rows] == [r["aspect_summary_id"] for r in first_rows]
 
 
 def test_digest_citations_near_duplicates_and_rerun(paper_store):
@@ -87,7 +88,7 @@ def test_digest_citations_near_duplicates_and_rerun(paper_store):
     summarizer = DigestSummarizer(budget=Budget(sentences=40), duplicate_threshold=0.8)
     outcome = make_digest(db_path, DocumentSelection(), name="all", summarizer=summarizer)
     assert outcome.added and outcome.version == 1 and outcome.documents == PAPERS + 1
-    record = outcome.record
+    record = outcome.record.as_dict()
     db = open_database(db_path)
     texts = dict(db.execute("select id, text from documents").fetchall())
     stored_sentences = _document_sentences(db)
@@ -118,7 +119,7 @@ def test_near_duplicate_sentences_from_two_documents_are_merged(paper_store):
     db_path, documents, echoed = paper_store
     outcome = make_digest(db_path, DocumentSelection(), name="echo", summarizer=DigestSummarizer(
         budget=Budget(sentences=400), mmr_lambda=1.0, per_document=None))
-    holders = [s for s in outcome.record["sentences"] if any(c["text"] == echoed for c in s["citations"])]
+    holders = [s for s in outcome.record.as_dict()["sentences"] if any(c["text"] == echoed for c in s["citations"])]
     assert len(holders) == 1
     cited = [c["document_id"] for c in holders[0]["citations"] if c["text"] == echoed]
     assert len(cited) == 2 and len(set(cited)) == 2
@@ -134,7 +135,7 @@ def test_a_changed_archive_makes_a_new_version_and_the_old_one_stays(paper_store
     _store_papers(db_path, [extra])
     second = rerun_digest(db_path, "window")
     assert second.added and second.version == 2 and second.documents == 6
-    assert read_digest(db_path, "window", version=1)["documents"] == first.record["documents"]
+    assert read_digest(db_path, "window", version=1).documents == first.record.documents
 
 
 def test_selection_by_query_folder_dates_and_status(paper_store):
@@ -188,11 +189,9 @@ def test_digest_files_carry_the_caution_and_escape_document_text(tmp_path, fmt):
     from summarize.output.answers import write_digest
     from summarize.output.caution import CAUTION
 
-    citation = {"document_id": 7, "record_key": "/archive/INC-1.html", "title": "t", "date": "2025-01-02",
-                "start": 0, "end": 30, "similarity": 1.0, "text": "Portal ran <script>alert(1)</script>"}
-    record = {"digest_id": 1, "name": "x", "version": 1, "selection": {"query": "portal"}, "settings": {"aspect": None},
-              "documents": [7], "details": {}, "run_id": 1, "created": "2025-01-03",
-              "sentences": [{"position": 0, "score": 0.5, "text": citation["text"], "citations": [citation]}]}
+    citation = CitedSpan(7, "/archive/INC-1.html", "t", "2025-01-02", 0, 30, 1.0, "Portal ran <script>alert(1)</script>")
+    record = StoredDigest(1, "x", 1, {"query": "portal"}, {"aspect": None}, [7], {}, 1, "2025-01-03",
+                          (DigestLine(0, 0.5, citation.text, (citation,)),))
     out = write_digest(record, fmt, str(tmp_path / f"digest.{fmt}"))
     text = out.read_text(encoding="utf-8")
     caution = {"md": CAUTION, "html": html.escape(CAUTION)}.get(fmt)

@@ -17,6 +17,7 @@ import numpy as np
 from sklearn.model_selection import KFold
 
 from store import Store
+from store.aspect_records import StoredAnswer
 from store.errors import SummarizerError, UsageError
 from store.queries import DocumentNotFound
 from store.records import param_hash
@@ -58,11 +59,11 @@ class AspectOutcome:
     added: int
     kept: int
     seconds: float
-    rows: list[dict] = field(default_factory=list)
+    rows: list[StoredAnswer] = field(default_factory=list)
 
     def as_dict(self) -> dict:
         return {"run_id": self.run_id, "method": self.method, "added": self.added, "kept": self.kept,
-                "seconds": round(self.seconds, 3), "aspect_summaries": self.rows}
+                "seconds": round(self.seconds, 3), "aspect_summaries": [row.as_dict() for row in self.rows]}
 
 
 def _document_ids(store: Store, references: list[str] | None) -> list[int]:
@@ -129,7 +130,7 @@ def summarize_aspects(
         outcome = AspectOutcome(run.run_id, method, added, kept, time.perf_counter() - started)
         rows = store.aspects.rows(document_ids, [a.name for a in aspects], method, hashes)
     order = {aspect.name: index for index, aspect in enumerate(aspects)}
-    outcome.rows = sorted(rows, key=lambda row: (row["record_key"], order[row["aspect"]]))
+    outcome.rows = sorted(rows, key=lambda row: (row.record_key, order[row.aspect]))
     return outcome
 
 

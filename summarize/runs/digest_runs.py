@@ -17,7 +17,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from store import Store
-from store.aspect_records import Digest, DocumentSelection
+from store.aspect_records import Digest, DigestListing, DocumentSelection, StoredDigest
 from store.digests import DigestNotFound, digest_fingerprint
 from store.errors import SummarizerError
 from store.runs import recorded_run, writable_store
@@ -42,11 +42,11 @@ class DigestOutcome:
     added: bool
     documents: int
     seconds: float
-    record: dict
+    record: StoredDigest
 
     def as_dict(self) -> dict:
         return {"name": self.name, "digest_id": self.digest_id, "version": self.version, "added": self.added,
-                "documents": self.documents, "seconds": round(self.seconds, 3), "digest": self.record}
+                "documents": self.documents, "seconds": round(self.seconds, 3), "digest": self.record.as_dict()}
 
 
 def digest_settings(summarizer: DigestSummarizer, aspect: Aspect | None) -> dict:
@@ -88,8 +88,8 @@ def make_digest(
         if not documents:
             raise EmptySelection(f"{db_path}: the selection ({selection.describe() or 'everything'}) matches no document")
         latest = store.digests.latest(name)
-        if latest and latest["fingerprint"] == digest_fingerprint(documents, selection.as_dict(), settings):
-            return DigestOutcome(name, latest["id"], latest["version"], False, len(documents),
+        if latest and latest.fingerprint == digest_fingerprint(documents, selection.as_dict(), settings):
+            return DigestOutcome(name, latest.id, latest.version, False, len(documents),
                                  time.perf_counter() - started, store.digests.record(name))
     config = {"name": name, "selection": selection.as_dict(), "settings": settings}
     with recorded_run(db_path, "digest", config, lock_wait_seconds, progress) as run:
@@ -114,12 +114,12 @@ def rerun_digest(db_path: str, name: str, lock_wait_seconds: float = 0.0,
         latest = store.digests.latest(name)
     if latest is None:
         raise UnknownDigest(f"{db_path}: no digest named {name!r}")
-    summarizer, aspect = summarizer_from_settings(latest["settings"])
-    selection = DocumentSelection(**latest["selection"])
+    summarizer, aspect = summarizer_from_settings(latest.settings)
+    selection = DocumentSelection(**latest.selection)
     return make_digest(db_path, selection, name, aspect, summarizer, lock_wait_seconds, progress)
 
 
-def read_digest(db_path: str, name: str, version: int | None = None) -> dict:
+def read_digest(db_path: str, name: str, version: int | None = None) -> StoredDigest:
     with Store(db_path, read_only=True) as store:
         try:
             return store.digests.record(name, version)
@@ -127,6 +127,6 @@ def read_digest(db_path: str, name: str, version: int | None = None) -> dict:
             raise UnknownDigest(f"{db_path}: {error}") from None
 
 
-def list_digests(db_path: str) -> list[dict]:
+def list_digests(db_path: str) -> list[DigestListing]:
     with Store(db_path, read_only=True) as store:
         return store.digests.newest()

@@ -190,7 +190,9 @@ class LearnedAspectSummarizer:
         texts = segmentation.sentence_texts(document.text)
         evidence, hits = self.unlearned_.evidence(texts, aspect)
         vectors = self.unlearned_.relevance_.sentence_vectors(texts)
-        lexrank = QueryBiasedLexRank(self.unlearned_.bias).scores(vectors, np.clip(evidence, 0, None))
+        lexrank = QueryBiasedLexRank(self.unlearned_.bias, self.unlearned_.top_k).scores(
+            vectors, np.clip(evidence, 0, None)
+        )
         lexrank = lexrank * max(len(texts), 1)
         columns = np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank)])
         return columns, evidence, vectors
@@ -245,7 +247,8 @@ class LearnedAspectSummarizer:
         if self.setting(aspect.name, "relevance") == "probability-evidence":
             relevance = probabilities * np.clip(known.evidence, 0, None)
         bias = self.setting(aspect.name, "bias")
-        scores = QueryBiasedLexRank(bias).scores(known.vectors, relevance) if bias < 1 else relevance
+        top_k = self.unlearned_.top_k
+        scores = QueryBiasedLexRank(bias, top_k).scores(known.vectors, relevance) if bias < 1 else relevance
         ranked = mmr_order(scores, CosineRows(known.vectors), rank_by_score(scores, answering), self.mmr_lambda)
         chosen = self.budget.select(ranked, known.words)
         confidence = float(np.mean(probabilities[chosen]))
