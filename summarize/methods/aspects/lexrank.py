@@ -7,6 +7,7 @@ Self-similarities are left out of the graph (a sentence does not vote for itself
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -23,8 +24,6 @@ _STEM = lru_cache(maxsize=200_000)(porter.PorterStemmer().stem)
 def stemmed_words(text: str) -> list[str]:
     """Lower-case word tokens without English stop words, Porter-stemmed: the
     vectorizers' analyzer (module level, so fitted vectorizers can be pickled)."""
-    import re
-
     return [_STEM(word) for word in re.findall(r"[a-z0-9]+", text.lower()) if word not in ENGLISH_STOP_WORDS]
 
 
