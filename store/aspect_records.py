@@ -76,7 +76,8 @@ class Digest:
 class DocumentSelection:
     """Which documents a digest covers; every given criterion must hold.
 
-    ``query``: full-text search as ``find`` does it; ``folder``: documents whose path
+    ``query``: a search in the grammar ``find`` uses (words, phrases, OR/NOT and
+    filters such as ``format:pdf``); ``folder``: documents whose path
     lies under this folder; ``since``/``until``: document dates, inclusive, compared
     as ISO text (``2025``, ``2025-03`` and ``2025-03-14`` all work as bounds);
     ``status``: the stored status (``active`` by default; ``any`` for all but

@@ -24,6 +24,8 @@ from store.aspect_records import (
     StoredDigest,
 )
 from store.runs import now
+from store.search import parse_query
+from store.search_queries import search_documents
 
 
 class DigestNotFound(LookupError):
@@ -53,13 +55,9 @@ class Digests:
             conditions.append("d.status = ?")
             params.append(selection.status)
         if selection.query:
-            quoted = self.db.quote_fts(selection.query)
-            conditions.append(
-                "d.id in (select rowid from documents_fts where documents_fts match ? "
-                "union select s.document_id from summaries_fts join summaries s on s.rowid = summaries_fts.rowid "
-                "where summaries_fts match ?)"
-            )
-            params += [quoted, quoted]
+            hits = search_documents(self.db, parse_query(selection.query), limit=-1, snippets=False).hits
+            conditions.append("d.id in (select value from json_each(?))")
+            params.append(json.dumps([hit.document_id for hit in hits]))
         if selection.folder:
             folder = selection.folder.rstrip("/\\")
             prefixes = {os.path.abspath(folder), folder}

@@ -149,7 +149,7 @@ _WAIT = click.option("--wait-lock", type=click.FloatRange(0), default=0.0,
 @digest_group.command("new")
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
 @click.option("--name", default=None, help="Name to keep the digest under (default: made from the selection).")
-@click.option("--query", default=None, help="Full-text search of titles, paths and summaries, as `find`.")
+@click.option("--query", default=None, help="A search as `find` takes it (words, \"phrases\", OR, NOT, filters such as format:pdf).")
 @click.option("--folder", default=None, help="Only documents under this folder.")
 @click.option("--since", default=None, help="Only documents dated on or after this (2025, 2025-03, 2025-03-14).")
 @click.option("--until", default=None, help="Only documents dated on or before this.")

@@ -14,6 +14,7 @@ from click.testing import CliRunner
 
 from store import Store
 from store.aspect_records import CitedSpan, DigestLine, DocumentSelection, StoredDigest
+from store.errors import UsageError
 from store.schema import SCHEMA_VERSION, open_database
 from summarize.cli import main
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
@@ -148,6 +149,12 @@ def test_selection_by_query_folder_dates_and_status(paper_store):
     assert len(db.digests.select(DocumentSelection(folder="aclsum"))) == PAPERS + 1
     assert len(db.digests.select(DocumentSelection(until="2011"))) == 2
     assert db.digests.select(DocumentSelection(status="missing")) == []
+    # The query grammar `find` uses: filters and operators work in a digest's query.
+    assert len(db.digests.select(DocumentSelection(query="format:aclsum-sentences"))) == PAPERS + 1
+    without = {i for i, _ in db.digests.select(DocumentSelection(query=f"format:aclsum-sentences introduction NOT {title_word}"))}
+    assert without and not without & by_query
+    with pytest.raises(UsageError):
+        db.digests.select(DocumentSelection(query="colour:red"))
 
 
 def test_cli_aspects_and_digest_commands(paper_store, tmp_path):
