@@ -207,3 +207,26 @@ def test_digest_files_carry_the_caution_and_escape_document_text(tmp_path, fmt):
     if fmt == "html":
         assert "<script>" not in text and "&lt;script&gt;" in text
     assert [p.name for p in tmp_path.iterdir()] == [f"digest.{fmt}"]
+
+
+def test_the_review_site_lists_and_shows_digests_with_links_to_the_cited_documents(paper_store):
+    from bs4 import BeautifulSoup
+
+    from summarize.output.caution import CAUTION
+    from summarize.output.site.app import create_app
+
+    db_path, _, _ = paper_store
+    record = make_digest(db_path, DocumentSelection(since="2012"), name="from-2012", aspect=PAPER_ASPECTS[2]).record
+    client = create_app(db_path).test_client()
+    local = {"Host": "127.0.0.1:8765"}
+    listing = client.get("/digests", headers=local)
+    assert listing.status_code == 200 and b"from-2012" in listing.data
+    page = client.get("/digests/from-2012", headers=local)
+    soup = BeautifulSoup(page.data.decode("utf-8"), "html.parser")
+    assert page.status_code == 200 and CAUTION in soup.select_one(".caution").get_text()
+    assert [" ".join(li.p.get_text().split()) for li in soup.select("main > ol > li")] == [
+        " ".join(s.text.split()) for s in record.sentences
+    ]
+    linked = {a["href"] for a in soup.select("main ol ul a")}
+    assert linked == {f"/document/{c.document_id}" for s in record.sentences for c in s.citations}
+    assert client.get("/digests/none-such", headers=local).status_code == 404

@@ -15,6 +15,7 @@ from pathlib import Path
 from flask import Flask, Response, abort, g, render_template, request, url_for
 from markupsafe import Markup, escape
 
+from store.digests import DigestNotFound
 from store.errors import SummarizerError
 from store.queries import DocumentNotFound
 from store.search import FILTER_NAMES, STATUSES, ParsedQuery, add_filter, parse_query
@@ -175,6 +176,19 @@ def create_app(db_path: str | Path, hosts: list[str] | None = None) -> Flask:
         response.headers["Content-Type"] = f"{mimetype}; charset=utf-8"
         response.headers["Content-Disposition"] = f'attachment; filename="summaries-{choice.key}.{fmt}"'
         return response
+
+    @app.get("/digests")
+    def digests():
+        return render_template("digests.html", digests=g.store.digests.newest())
+
+    @app.get("/digests/<name>")
+    def digest(name: str):
+        version = request.args.get("version", type=int)
+        try:
+            record = g.store.digests.record(name, version)
+        except DigestNotFound:
+            abort(404)
+        return render_template("digest.html", digest=record)
 
     @app.errorhandler(404)
     def not_found(_error):
