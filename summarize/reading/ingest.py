@@ -9,7 +9,9 @@ Conventions:
 
 * Folders are walked depth first, entries sorted by name; names starting with
   '.' are skipped while walking (a hidden path given explicitly is read).
-* ``record_key`` is the absolute path (made absolute, links not resolved); a JSON/JSONL record adds
+* ``record_key`` is the absolute path (made absolute, links not resolved; bytes
+  of a name that are not UTF-8 written ``\\xNN``, the exact bytes kept in the
+  metadata as ``path_bytes``); a JSON/JSONL record adds
   '#<id>' (its id field) or '#<N>' (its position: element N of a .json list,
   line N of a .jsonl file, both from 1).
 * Reference summaries are taken, in order of precedence, from a sidecar file
@@ -28,12 +30,13 @@ Conventions:
 from __future__ import annotations
 
 import hashlib
+import json
 import os
 from collections.abc import Callable, Iterable, Iterator
-from dataclasses import dataclass
 from pathlib import Path
 
 from store.records import Document
+from summarize.reading.limits import LimitExceeded, ReadLimits, current_limits, time_limit, using_limits
 from summarize.reading.readers.blocks import Extract, assemble
 from summarize.reading.readers.docx import read_docx
 from summarize.reading.readers.errors import ReadError
@@ -46,12 +49,15 @@ from summarize.reading.readers.records import RecordFields, RecordOutcome, read_
 from summarize.reading.readers.references import find_leading_section
 from summarize.reading.readers.sidecars import find_sidecar, is_sidecar_name, read_sidecar, sidecar_stem
 from summarize.reading.readers.textfiles import read_md, read_rst, read_txt
+from summarize.reading.walk import ArchiveWalk, IngestProblem, UnreadableFile, display_path, read_regular_file
 
 __all__ = [
     "SUPPORTED_SUFFIXES",
     "IngestProblem",
+    "ReadLimits",
     "RecordFields",
     "UnreadableFile",
+    "archive_files",
     "iter_archive",
     "read_file",
 ]
@@ -84,61 +90,47 @@ _FORMAT_NAMES = {"txt": "text", "md": "Markdown", "rst": "reStructuredText", "ht
                  "docx": "DOCX", "eml": "e-mail", "json": "JSON", "jsonl": "JSON Lines"}
 
 
-@dataclass(frozen=True)
-class IngestProblem:
-    """One file (or record) that gave no document. ``kind`` is 'error' for
-    unreadable or malformed input and 'skipped' for input that is not meant to
-    be read (unsupported type, stray summary sidecar)."""
-
-    path: str
-    reason: str
-    kind: str
-
-    def __str__(self) -> str:
-        return f"{self.path}: {self.reason}"
-
-
-class UnreadableFile(Exception):
-    """A file that cannot be read; ``str()`` is 'path: reason' on one line."""
-
-    def __init__(self, path: str, reason: str) -> None:
-        super().__init__(path, reason)
-        self.path = path
-        self.reason = reason
-
-    def __str__(self) -> str:
-        return f"{self.path}: {self.reason}"
-
-
 def iter_archive(
-    paths: Iterable[str | Path], fields: RecordFields = RecordFields()
+    paths: Iterable[str | Path],
+    fields: RecordFields = RecordFields(),
+    limits: ReadLimits = ReadLimits(),
+    follow_links_outside: bool = False,
 ) -> Iterator[Document | IngestProblem]:
     """Documents and problems for the given files and folders, in a
-    deterministic order. Summary sidecars next to a document are not yielded."""
-    seen: set[Path] = set()
-    for given in paths:
-        # Absolute keys, so that `archive/` one night and `/srv/archive` the next name
-        # the same records (links are not resolved: the path the operator uses counts).
-        path = Path(os.path.abspath(given))
-        if not path.exists():
-            yield IngestProblem(str(path), "no such file or directory", "error")
+    deterministic order. Summary sidecars next to a document are not yielded; a
+    file reached twice (through links) is read once. See ``summarize.reading.walk``
+    for what the walk reads and what it reports."""
+    # Absolute keys, so that `archive/` one night and `/srv/archive` the next name
+    # the same records (links are not resolved: the path the operator uses counts).
+    walk = ArchiveWalk([os.path.abspath(given) for given in paths], follow_links_outside)
+    seen: set[str] = set()
+    for file in walk:
+        if isinstance(file, IngestProblem):
+            yield file
             continue
-        for file in _walk(path, set()) if path.is_dir() else [path]:
-            if isinstance(file, IngestProblem):
-                yield file
-                continue
-            resolved = file.resolve()
-            if resolved in seen:
-                continue
-            seen.add(resolved)
-            yield from _ingest(file, fields)
+        resolved = os.path.realpath(file)
+        if resolved in seen:
+            continue
+        seen.add(resolved)
+        yield from _ingest(file, fields, limits, walk)
 
 
-def read_file(path: str | Path, fields: RecordFields = RecordFields()) -> list[Document]:
+def archive_files(paths: Iterable[str | Path], follow_links_outside: bool = False) -> Iterator[str]:
+    """The document files under ``paths``, named as documents' paths are, without
+    reading any of them: what a full walk would read."""
+    walk = ArchiveWalk([os.path.abspath(given) for given in paths], follow_links_outside)
+    for file in walk:
+        if isinstance(file, Path) and file.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(file):
+            yield display_path(file)
+
+
+def read_file(
+    path: str | Path, fields: RecordFields = RecordFields(), limits: ReadLimits = ReadLimits()
+) -> list[Document]:
     """The documents in one file (one per record for JSON/JSONL). Raises
     ``UnreadableFile`` when the file, its sidecar or any of its records is bad."""
-    key = str(Path(path))
-    items = _read(Path(path), fields)
+    key = display_path(Path(path))
+    items = _read(Path(path), fields, limits)
     problems = [item for item in items if isinstance(item, IngestProblem)]
     if problems:
         more = f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""
@@ -157,38 +149,16 @@ def _problem_within(problem: IngestProblem, key: str) -> str:
     return str(problem)
 
 
-def _walk(directory: Path, visited: set[Path]) -> Iterator[Path | IngestProblem]:
-    """Files under a folder, depth first, sorted by name, hidden names skipped;
-    a folder reached twice through links is walked once; a folder that cannot be
-    listed is a problem."""
-    real = directory.resolve()
-    if real in visited:
-        return
-    visited.add(real)
-    try:
-        entries = sorted(directory.iterdir(), key=lambda entry: entry.name)
-    except OSError as exc:
-        yield IngestProblem(str(directory), f"cannot list folder ({exc.strerror or exc})", "error")
-        return
-    for entry in entries:
-        if entry.name.startswith("."):
-            continue
-        if entry.is_dir():
-            yield from _walk(entry, visited)
-        else:
-            yield entry
-
-
-def _ingest(path: Path, fields: RecordFields) -> Iterator[Document | IngestProblem]:
+def _ingest(path: Path, fields: RecordFields, limits: ReadLimits, walk: ArchiveWalk) -> Iterator[Document | IngestProblem]:
     if is_sidecar_name(path):
         if not _has_partner_document(path):
-            yield IngestProblem(str(path), "summary sidecar with no document of the same name beside it", "skipped")
+            yield IngestProblem(display_path(path), "summary sidecar with no document of the same name beside it", "skipped")
         return
     if path.suffix.lower() not in SUPPORTED_SUFFIXES:
-        yield IngestProblem(str(path), _unsupported(path), "skipped")
+        yield IngestProblem(display_path(path), _unsupported(path), "skipped")
         return
     try:
-        yield from _read(path, fields)
+        yield from _read(path, fields, limits, walk)
     except UnreadableFile as exc:
         yield IngestProblem(exc.path, exc.reason, "error")
 
@@ -198,29 +168,40 @@ def _has_partner_document(sidecar: Path) -> bool:
     return any(sidecar.with_name(stem + suffix).is_file() for suffix in SUPPORTED_SUFFIXES)
 
 
-def _read(path: Path, fields: RecordFields) -> list[Document | IngestProblem]:
+def _read(
+    path: Path, fields: RecordFields, limits: ReadLimits, walk: ArchiveWalk | None = None
+) -> list[Document | IngestProblem]:
     """Documents of one file, in file order, with the problems that did not stop
     it (bad records, an unreadable sidecar). Raises ``UnreadableFile`` when the
-    file as a whole cannot be read."""
-    key = str(path)
+    file as a whole cannot be read. Reading runs under ``limits`` (sizes, parts,
+    metadata, and the time limit per document)."""
+    key = display_path(path)
     if path.is_dir():
         raise UnreadableFile(key, "is a directory")
     file_format = _FORMAT_BY_SUFFIX.get(path.suffix.lower())
     if file_format is None:
         raise UnreadableFile(key, _unsupported(path))
-    raw = _read_bytes(path)
+    raw = read_regular_file(path, limits.max_file_bytes)
     if not raw:
         raise UnreadableFile(key, "empty file")
     try:
-        if file_format in ("json", "jsonl"):
-            return _record_documents(path, raw, file_format, fields)
-        extract = _FILE_READERS[file_format](raw)
-        problems = _add_sidecar(path, extract)
-        document = _document(extract, key, key, file_format, raw, fallback_title=path.stem)
+        with using_limits(limits), time_limit(limits.document_seconds):
+            if file_format in ("json", "jsonl"):
+                return _record_documents(path, key, raw, file_format, fields)
+            extract = _FILE_READERS[file_format](raw)
+            problems = _add_sidecar(path, extract, limits, walk)
+            document = _document(extract, key, key, file_format, raw, fallback_title=display_path(path.stem))
     except ReadError as exc:
         raise UnreadableFile(key, str(exc)) from None
+    except RecursionError:
+        raise UnreadableFile(key, f"{_FORMAT_NAMES[file_format]} structure nested too deeply to read") from None
+    except MemoryError:
+        raise UnreadableFile(key, f"{_FORMAT_NAMES[file_format]} file needs more memory than there is to read") from None
     except Exception as exc:  # noqa: BLE001 - parser libraries raise anything; the batch must go on
         raise UnreadableFile(key, _unexpected(file_format, exc)) from None
+    if key != str(path):
+        # The path is not UTF-8: keep its exact bytes, so that the file can be found again.
+        document.metadata["path_bytes"] = os.fsencode(path).hex()
     return [*problems, document]
 
 
@@ -228,52 +209,48 @@ def _unsupported(path: Path) -> str:
     return f"unsupported file type '{path.suffix}'" if path.suffix else "unsupported file type (no suffix)"
 
 
-def _read_bytes(path: Path) -> bytes:
-    try:
-        return path.read_bytes()
-    except FileNotFoundError:
-        raise UnreadableFile(str(path), "no such file or directory") from None
-    except OSError as exc:
-        raise UnreadableFile(str(path), f"cannot read file ({exc.strerror or exc})") from None
-
-
-def _add_sidecar(path: Path, extract: Extract) -> list[IngestProblem]:
+def _add_sidecar(path: Path, extract: Extract, limits: ReadLimits, walk: ArchiveWalk | None) -> list[IngestProblem]:
     sidecar = find_sidecar(path)
     if sidecar is None:
         return []
+    if walk is not None and not walk.follow_links_outside and not walk.inside(str(sidecar)):
+        return [IngestProblem(display_path(sidecar), "summary sidecar links outside the archive; not read "
+                              "(allow with --follow-links-outside)", "error")]
     try:
+        if sidecar.stat().st_size > limits.max_file_bytes:
+            raise LimitExceeded("summary sidecar size", "max_file_bytes", limits.max_file_bytes)
         summary = read_sidecar(sidecar)
-    except ReadError as exc:
-        return [IngestProblem(str(sidecar), str(exc), "error")]
+    except (ReadError, OSError) as exc:
+        return [IngestProblem(display_path(sidecar), str(exc), "error")]
     extract.reference_summary = summary
     extract.reference_source = f"sidecar:{sidecar.name}"
     return []
 
 
 def _record_documents(
-    path: Path, raw: bytes, file_format: str, fields: RecordFields
+    path: Path, key: str, raw: bytes, file_format: str, fields: RecordFields
 ) -> list[Document | IngestProblem]:
     items: list[Document | IngestProblem] = []
     for outcome in read_records(raw, line_oriented=file_format == "jsonl", fields=fields):
-        record_path = f"{path}#{outcome.locator}"
+        record_path = f"{key}#{outcome.locator}"
         if outcome.extract is None:
             items.append(IngestProblem(record_path, outcome.problem or "unreadable record", "error"))
             continue
         try:
-            items.append(_record_document(path, outcome, file_format))
+            items.append(_record_document(path, key, outcome, file_format))
         except ReadError as exc:
             items.append(IngestProblem(record_path, str(exc), "error"))
     return items
 
 
-def _record_document(path: Path, outcome: RecordOutcome, file_format: str) -> Document:
+def _record_document(path: Path, key: str, outcome: RecordOutcome, file_format: str) -> Document:
     return _document(
         outcome.extract,
-        record_key=f"{path}#{outcome.key}",
-        path=str(path),
+        record_key=f"{key}#{outcome.key}",
+        path=key,
         file_format=file_format,
         raw=outcome.canonical,
-        fallback_title=f"{path.stem} #{outcome.key}",
+        fallback_title=f"{display_path(path.stem)} #{outcome.key.removeprefix('@')}",
     )
 
 
@@ -290,6 +267,9 @@ def _document(extract: Extract, record_key: str, path: str, file_format: str, ra
     text, headings = assemble(blocks)
     if not text:
         raise ReadError("no text content")
+    limits = current_limits()
+    if len(json.dumps(extract.metadata, default=str).encode("utf-8")) > limits.max_metadata_bytes:
+        raise LimitExceeded("metadata", "max_metadata_bytes", limits.max_metadata_bytes)
     preamble_title, preamble_date = preamble_fields(blocks)
     title_heading = next(
         (span.slice(text) for span in headings if not is_numbered_section(span.slice(text))), None

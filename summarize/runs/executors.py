@@ -24,6 +24,7 @@ from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 
 from store.records import Document, Segmentation
+from summarize.reading.limits import DocumentTookTooLong, time_limit
 from summarize.reading.split import split_document
 
 Job = tuple[int, tuple[Document, Segmentation], list[str]]
@@ -46,10 +47,14 @@ def summarize_document(methods: dict, document: Document, segmentation: Segmenta
     return outcomes
 
 
-def split_or_error(document: Document) -> Segmentation | Exception:
-    """The document's segmentation, or the splitter's failure as a plain RuntimeError."""
+def split_or_error(document: Document, seconds: float = 0.0) -> Segmentation | Exception:
+    """The document's segmentation, or the splitter's failure as a plain RuntimeError;
+    splitting longer than ``seconds`` (0: no limit) is such a failure."""
     try:
-        return split_document(document)
+        with time_limit(seconds):
+            return split_document(document)
+    except DocumentTookTooLong as error:
+        return RuntimeError(f"sentence splitting {error}")
     except Exception as error:  # one file's splitter fault must not stop the batch
         return RuntimeError(f"could not split into sentences ({type(error).__name__}: {error})")
 
@@ -77,6 +82,8 @@ def _summarize_in_worker(document: Document, segmentation: Segmentation, names: 
 
 
 class InProcessExecutor:
+    document_seconds = 0.0
+
     def __init__(self, methods: list):
         self.methods = {method.name: method for method in methods}
 
@@ -90,7 +97,7 @@ class InProcessExecutor:
         for document in documents:
             if stop.reason():
                 return
-            yield document, split_or_error(document)
+            yield document, split_or_error(document, self.document_seconds)
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         for document_id, (document, segmentation), names in jobs:
@@ -103,6 +110,7 @@ class _WindowedExecutor(ABC):
     """Shared submit/collect loops: at most ``window`` documents in flight."""
 
     window = 4
+    document_seconds = 0.0
 
     @abstractmethod
     def _submit_split(self, document: Document):
@@ -189,7 +197,7 @@ class ProcessExecutor(_WindowedExecutor):
         self.pool.shutdown(wait=True, cancel_futures=True)
 
     def _submit_split(self, document):
-        return self.pool.submit(split_or_error, document)
+        return self.pool.submit(split_or_error, document, self.document_seconds)
 
     def _submit(self, document, segmentation, names):
         return self.pool.submit(_summarize_in_worker, document, segmentation, names)
@@ -247,7 +255,7 @@ class DaskExecutor(_WindowedExecutor):
         return futures
 
     def _submit_split(self, document):
-        return self.client.submit(split_or_error, document, pure=False)
+        return self.client.submit(split_or_error, document, self.document_seconds, pure=False)
 
     def _submit(self, document, segmentation, names):
         return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
@@ -258,11 +266,15 @@ class DaskExecutor(_WindowedExecutor):
         return dask_wait(list(futures), return_when="FIRST_COMPLETED").done
 
 
-def make_executor(methods: list, workers: int = 1, scheduler: str | None = None):
+def make_executor(methods: list, workers: int = 1, scheduler: str | None = None, document_seconds: float = 0.0):
     """Pick the executor for a run's ``--workers`` / ``--scheduler`` settings
-    (``methods`` may be empty when only splitting is sent out)."""
+    (``methods`` may be empty when only splitting is sent out). Splitting one
+    document is limited to ``document_seconds`` (0: no limit)."""
     if scheduler:
-        return DaskExecutor(methods, scheduler)
-    if workers > 1:
-        return ProcessExecutor(methods, workers)
-    return InProcessExecutor(methods)
+        executor = DaskExecutor(methods, scheduler)
+    elif workers > 1:
+        executor = ProcessExecutor(methods, workers)
+    else:
+        executor = InProcessExecutor(methods)
+    executor.document_seconds = document_seconds
+    return executor

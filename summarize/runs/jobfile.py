@@ -43,6 +43,13 @@ RUN_KEYS = {
     "summary_field": str,
     "date_field": str,
     "id_field": str,
+    "max_file_mb": (int, float),
+    "max_unpacked_mb": (int, float),
+    "max_parts": int,
+    "max_metadata_kb": (int, float),
+    "max_yaml_nodes": int,
+    "document_seconds": (int, float),
+    "follow_links_outside": bool,
     "seq2seq": dict,
     "aspects": dict,
 }

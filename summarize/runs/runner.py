@@ -33,8 +33,7 @@ from store.runs import recorded_run
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
-from summarize.reading.ingest import SUPPORTED_SUFFIXES, IngestProblem, RecordFields, iter_archive
-from summarize.reading.readers.sidecars import is_sidecar_name
+from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, archive_files, iter_archive
 from summarize.runs.executors import check_scheduler, make_executor
 from summarize.runs.progress import Progress
 from summarize.runs.stopping import StopConditions
@@ -135,32 +134,7 @@ def _file_of(key: str) -> str:
     return key.split("#", 1)[0]
 
 
-def _archive_files(paths: list[str]) -> Iterator[str]:
-    """The document files under ``paths`` as the archive walk names them (sorted,
-    hidden names and summary sidecars left out), without reading any of them: used
-    to say how much of the archive a stopped run has not read yet."""
-    for given in paths:
-        root = Path(given)
-        if root.is_file():
-            yield str(root)
-            continue
-        stack = [root]
-        while stack:
-            folder = stack.pop()
-            try:
-                entries = sorted(folder.iterdir(), key=lambda entry: entry.name, reverse=True)
-            except OSError:
-                continue
-            for entry in entries:
-                if entry.name.startswith("."):
-                    continue
-                if entry.is_dir():
-                    stack.append(entry)
-                elif entry.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(entry):
-                    yield str(entry)
-
-
-def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler) -> list[int]:
+def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading) -> list[int]:
     """Pass 1. Returns the ids of the current, non-duplicate documents seen.
 
     This process reads the files and writes the store; splitting new documents into
@@ -169,6 +143,7 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     seen_keys: set[str] = set()
     files_visited: set[str] = set()
     files_failed: set[str] = set()
+    unlisted: list[str] = []
     document_ids: list[int] = []
     walked_everything = True
 
@@ -184,13 +159,15 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
         """Walk the archive; record problems and known documents at once; yield the
         documents to split and store."""
         nonlocal walked_everything
-        for item in iter_archive(paths, fields):
+        for item in iter_archive(paths, fields, **reading):
             if stop.reason():
                 walked_everything = False
                 return
             if isinstance(item, IngestProblem):
                 files_visited.add(_file_of(item.path))
                 store.runs.record_problem(run_id, item.path, item.kind, item.reason)
+                if item.unlisted:
+                    unlisted.append(item.path)
                 if item.kind == "error":
                     files_failed.add(_file_of(item.path))
                     report.errors.append(str(item))
@@ -208,7 +185,8 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
                 yield item
 
     progress.start(None, "files read")
-    with make_executor([], workers=workers, scheduler=scheduler) as executor:
+    document_seconds = reading["limits"].document_seconds
+    with make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor:
         for document, segmentation in executor.split_documents(new_documents(), stop):
             if isinstance(segmentation, Exception):
                 store.runs.record_problem(run_id, document.record_key, "error", str(segmentation))
@@ -218,13 +196,20 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
             counted(*store.add_document(document, segmentation, run_id))
     progress.close()
     if not walked_everything:
-        report.files_unread = sum(1 for path in _archive_files(paths) if path not in files_visited)
+        follow = reading.get("follow_links_outside", False)
+        report.files_unread = sum(1 for path in archive_files(paths, follow) if path not in files_visited)
         return document_ids
     roots = [os.path.abspath(p) for p in paths]
     for stored in store.documents.active():
-        # A file that is still there but failed to read this time keeps its last good version.
+        # A file that is still there but failed to read this time keeps its last good version;
+        # a document under a folder that could not be listed (or an absent root) may well be there.
         key = stored.record_key
-        if key not in seen_keys and _file_of(key) not in files_failed and _under(key, roots):
+        if (
+            key not in seen_keys
+            and _file_of(key) not in files_failed
+            and _under(key, roots)
+            and not _under(key, unlisted)
+        ):
             store.mark_missing(stored.id)
             report.missing += 1
     return document_ids
@@ -245,11 +230,15 @@ def run_archive(
     lock_wait_seconds: float = 0.0,
     progress: Progress | None = None,
     config_extra: dict | None = None,
+    limits: ReadLimits = ReadLimits(),
+    follow_links_outside: bool = False,
 ) -> RunReport:
     """Summarize every document under ``paths`` into the store at ``db_path``.
 
     ``summarizers`` may pass ready-made method objects instead of names (they must
-    offer ``name``, ``get_params``, ``fit`` and ``summarize``). Raises
+    offer ``name``, ``get_params``, ``fit`` and ``summarize``). ``limits`` bound what
+    one file may cost (``summarize.reading.limits``); links leading out of ``paths``
+    are followed only with ``follow_links_outside``. Raises
     :class:`~store.lock.StoreLocked` when another run holds the store.
     """
     paths = [str(p) for p in paths]
@@ -268,6 +257,8 @@ def run_archive(
         "methods": {m.name: m.get_params() for m in active},
         "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
         "record_fields": asdict(fields),
+        "read_limits": asdict(limits),
+        "follow_links_outside": follow_links_outside,
         "workers": workers,
         "scheduler": scheduler,
         "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
@@ -285,7 +276,10 @@ def run_archive(
         store, run_id = run.store, run.run_id
         report = RunReport(run_id=run_id)
         try:
-            document_ids = _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler)
+            reading = {"limits": limits, "follow_links_outside": follow_links_outside}
+            document_ids = _read_archive(
+                store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading
+            )
             progress.message(
                 f"read {report.documents_seen} documents ({report.documents_added} new, "
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"

@@ -25,6 +25,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from summarize.reading.walk import special_kind
+
 # Files that can hold a tokenizer's vocabulary (fast tokenizers, SentencePiece models
 # of T5 and PEGASUS, byte-level BPE of BART); one of them must be present.
 TOKENIZER_VOCABULARY_FILES = ("tokenizer.json", "spiece.model", "sentencepiece.bpe.model", "vocab.json")
@@ -239,8 +241,22 @@ def load_checkpoint(name: str | Path, allow_pickle: bool = False) -> Checkpoint:
         return _load_checkpoint(name, allow_pickle)
 
 
+def _check_regular_files(path: Path) -> None:
+    """Every file of the checkpoint is opened by some library: a FIFO would block it
+    for ever and a device would never end, so anything but regular files is refused."""
+    for entry in sorted(path.iterdir()):
+        try:
+            mode = entry.stat().st_mode
+        except OSError as error:
+            raise ModelLoadError(f"{entry}: cannot read ({error.strerror or error})") from None
+        kind = special_kind(mode)
+        if kind is not None:
+            raise ModelLoadError(f"{entry}: is {kind}, not a regular file; not read")
+
+
 def _load_checkpoint(name: str | Path, allow_pickle: bool) -> Checkpoint:
     path = resolve_checkpoint(name)
+    _check_regular_files(path)
     config_data = _read_config_json(path)
     weight_files, pickled = _weight_files(path, allow_pickle)
     if not any((path / file).is_file() for file in TOKENIZER_VOCABULARY_FILES):

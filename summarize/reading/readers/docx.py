@@ -20,12 +20,16 @@ from docx.table import Table
 from docx.text.paragraph import Paragraph
 from lxml import etree
 
+from summarize.reading.limits import LimitExceeded, current_limits
 from summarize.reading.readers.blocks import HEADING, LIST, PARAGRAPH, TABLE, Block, Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.errors import ReadError
 
 _HEADING_STYLE = re.compile(r"^heading\s*(\d)$", re.IGNORECASE)
 _W = "{http://schemas.openxmlformats.org/wordprocessingml/2006/main}"
+# Paragraph start tags (<w:p>, <w:p/>, <w:p attr...>), counted before python-docx builds its tree.
+_PARAGRAPH_TAG = re.compile(rb"<w:p[\s/>]")
+_CHUNK = 1024 * 1024
 
 
 def read_docx(raw: bytes) -> Extract:
@@ -71,11 +75,37 @@ def _open(raw: bytes) -> WordDocument:
     if not zipfile.is_zipfile(io.BytesIO(raw)):
         raise ReadError("not a valid DOCX file (bad zip)")
     try:
+        _check_unpacked_size(raw)
         return docx.Document(io.BytesIO(raw))
     except (PackageNotFoundError, KeyError, ValueError, zipfile.BadZipFile, zlib.error, etree.XMLSyntaxError) as exc:
         message = str(exc).strip().splitlines()
         detail = message[0] if message else type(exc).__name__
         raise ReadError(f"not a valid DOCX file ({detail})") from None
+
+
+def _check_unpacked_size(raw: bytes) -> None:
+    """Refuse a package that unpacks past the limits before python-docx parses it:
+    its declared sizes, then the main part streamed (a declared size can lie) with
+    its paragraphs counted."""
+    limits = current_limits()
+    with zipfile.ZipFile(io.BytesIO(raw)) as package:
+        if sum(info.file_size for info in package.infolist()) > limits.max_unpacked_bytes:
+            raise LimitExceeded("DOCX unpacked size", "max_unpacked_bytes", limits.max_unpacked_bytes)
+        if "word/document.xml" not in package.namelist():
+            return
+        unpacked = paragraphs = 0
+        tail = b""
+        with package.open("word/document.xml") as part:
+            while chunk := part.read(_CHUNK):
+                unpacked += len(chunk)
+                if unpacked > limits.max_unpacked_bytes:
+                    raise LimitExceeded("DOCX unpacked size", "max_unpacked_bytes", limits.max_unpacked_bytes)
+                window = tail + chunk
+                paragraphs += len(_PARAGRAPH_TAG.findall(window))
+                if paragraphs > limits.max_parts:
+                    raise LimitExceeded("DOCX paragraph count", "max_parts", limits.max_parts)
+                # Four bytes cannot hold a whole tag: a tag split by the chunk is counted once.
+                tail = window[-4:]
 
 
 def _heading_level(paragraph: Paragraph) -> int:

@@ -8,6 +8,7 @@ import re
 import yaml
 
 from summarize.reading.readers.errors import ReadError
+from summarize.reading.readers.safe_yaml import load_bounded_yaml
 
 _OPENING = re.compile(r"\A\ufeff?---[ \t]*\r?\n")
 _CLOSING = re.compile(r"^(?:---|\.\.\.)[ \t]*$", re.MULTILINE)
@@ -30,7 +31,7 @@ def split_front_matter(text: str) -> tuple[dict, str]:
     if not _KEY_LINE.match(block):
         return {}, text
     try:
-        fields = yaml.safe_load(block)
+        fields = load_bounded_yaml(block)
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f" (line {mark.line + 2})" if mark is not None else ""

@@ -11,6 +11,7 @@ from email import policy
 from email.message import EmailMessage
 from email.parser import BytesParser
 
+from summarize.reading.limits import LimitExceeded, current_limits
 from summarize.reading.readers.blocks import Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.decoding import decode_text
@@ -28,10 +29,17 @@ def read_eml(raw: bytes) -> Extract:
     message = BytesParser(policy=policy.default).parsebytes(raw)
     if not any(message.get(header) for header in _KNOWN_HEADERS):
         raise ReadError("not an e-mail message (no From, To, Subject or Date header)")
+    limits = current_limits()
+    if sum(1 for _ in message.walk()) > limits.max_parts:
+        raise LimitExceeded("e-mail MIME part count", "max_parts", limits.max_parts)
     body_part = message.get_body(preferencelist=("plain", "html"))
     if body_part is None:
         raise ReadError("e-mail has no text body")
     body, encoding = _body_text(body_part)
+    # A base64 body decodes to less than it takes, but quoted-printable or a
+    # declared charset can make the text larger than the file.
+    if len(body) > limits.max_unpacked_bytes:
+        raise LimitExceeded("e-mail body", "max_unpacked_bytes", limits.max_unpacked_bytes)
     if not body.strip():
         raise ReadError("e-mail body is empty")
     if body_part.get_content_subtype() == "html":

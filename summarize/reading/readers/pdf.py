@@ -21,6 +21,7 @@ from collections import Counter
 from pypdf import PasswordType, PdfReader
 from pypdf.errors import DependencyError, FileNotDecryptedError, PdfReadError
 
+from summarize.reading.limits import LimitExceeded, current_limits
 from summarize.reading.readers.blocks import Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.errors import ReadError
@@ -44,7 +45,10 @@ logging.getLogger("pypdf").setLevel(logging.ERROR)
 
 def read_pdf(raw: bytes) -> Extract:
     reader = _open(raw)
+    limits = current_limits()
     try:
+        if len(reader.pages) > limits.max_parts:
+            raise LimitExceeded("PDF page count", "max_parts", limits.max_parts)
         pages = list(reader.pages)
     except (PdfReadError, ValueError, KeyError, TypeError, AttributeError) as exc:
         raise ReadError(f"not a valid PDF ({_first_line(exc)})") from None
@@ -52,11 +56,16 @@ def read_pdf(raw: bytes) -> Extract:
         raise ReadError("PDF has no pages")
     page_lines: list[list[_StyledLine]] = []
     unreadable_pages = []
+    characters = 0
     for number, page in enumerate(pages, start=1):
         try:
             page_lines.append(_page_lines(page))
         except Exception:  # noqa: BLE001 - one damaged page should not lose the rest
             unreadable_pages.append(number)
+            continue
+        characters += sum(len(line.text) for line in page_lines[-1])
+        if characters > limits.max_unpacked_bytes:
+            raise LimitExceeded("PDF text", "max_unpacked_bytes", limits.max_unpacked_bytes)
     if not any(line.text.strip() for lines in page_lines for line in lines):
         raise ReadError("PDF has no text layer (scanned image?)")
     page_lines = [[line for line in lines if not _PAGE_NUMBER.match(line.text)] for lines in page_lines]

@@ -1,11 +1,16 @@
 """JSON and JSON Lines archives: one document per record.
 
 A .json file holds one object or a list of objects; a .jsonl file holds one
-object per line (blank lines are skipped). Which keys hold the text, title,
-reference summary, date and id is configurable. A record is located by its
-position: 'N' for the N-th element of a .json list (from 1), 'line N' for a
-.jsonl line. A bad record is reported on its own and does not cost the file's
-good records.
+object per line (blank lines are skipped; lines end at '\n' only, so a raw
+U+2028, U+2029 or U+0085 inside a string stays in its record). Which keys hold the
+text, title, reference summary, date and id is configurable. A record is located
+by its position: 'N' for the N-th element of a .json list (from 1), 'line N' for a
+.jsonl line. A bad record (or line: invalid, nested too deeply, an integer too long
+to convert) is reported on its own and does not cost the file's good records.
+
+A record's key is its id when it has one (a string or an integer; any other type
+is refused for that record), else '@N' with N its position: the two namespaces
+cannot collide, so an id "1" and the first record without id are both kept.
 """
 
 from __future__ import annotations
@@ -22,6 +27,8 @@ from summarize.reading.readers.text import plain_text_blocks
 
 # Other scalar fields of a record are kept as metadata when short.
 _MAX_METADATA_VALUE_CHARS = 200
+# Longer ids are refused: a key is shown in every listing and error line.
+_MAX_ID_CHARS = 200
 
 
 @dataclass(frozen=True)
@@ -38,7 +45,7 @@ class RecordFields:
 @dataclass(frozen=True)
 class RecordOutcome:
     """One record: its locator ('3' or 'line 7'), the key that identifies it in
-    the archive (its id, else its locator number), its canonical JSON bytes, and
+    the archive (its id, else '@' and its position), its canonical JSON bytes, and
     either the extract or the reason it could not be read."""
 
     locator: str
@@ -73,6 +80,8 @@ def _json_records(text: str) -> list[tuple[str, int, object, str | None]]:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise ReadError(f"invalid JSON: {exc.msg} (line {exc.lineno})") from None
+    except (ValueError, RecursionError) as exc:
+        raise ReadError(f"invalid JSON: {_parse_failure(exc)}") from None
     if isinstance(data, dict):
         return [("1", 1, data, None)]
     if isinstance(data, list):
@@ -82,14 +91,27 @@ def _json_records(text: str) -> list[tuple[str, int, object, str | None]]:
 
 def _jsonl_records(text: str) -> list[tuple[str, int, object, str | None]]:
     located = []
-    for number, line in enumerate(text.splitlines(), start=1):
+    # JSON Lines ends lines at '\n' only; str.splitlines would also split at U+2028,
+    # U+2029, U+0085 and others, which are valid raw inside a JSON string.
+    for number, line in enumerate(text.split("\n"), start=1):
+        line = line.removesuffix("\r")
         if not line.strip():
             continue
         try:
             located.append((f"line {number}", number, json.loads(line), None))
         except json.JSONDecodeError as exc:
             located.append((f"line {number}", number, None, f"invalid JSON: {exc.msg}"))
+        except (ValueError, RecursionError) as exc:
+            located.append((f"line {number}", number, None, f"invalid JSON: {_parse_failure(exc)}"))
     return located
+
+
+def _parse_failure(exc: Exception) -> str:
+    """Python's JSON parser fails on two kinds of valid-looking input: nesting deeper
+    than the interpreter's recursion limit, and integers too long to convert."""
+    if isinstance(exc, RecursionError):
+        return "nested too deeply"
+    return "an integer too long to read" if "digits" in str(exc) else str(exc).splitlines()[0]
 
 
 def _outcome(
@@ -101,22 +123,23 @@ def _outcome(
     encoding: str,
     seen_ids: set[str],
 ) -> RecordOutcome:
-    canonical = canonical_json(record) if parse_problem is None else b""
-
     def problem(reason: str) -> RecordOutcome:
-        return RecordOutcome(locator, str(number), canonical, problem=reason)
+        return RecordOutcome(locator, f"@{number}", b"", problem=reason)
 
     if parse_problem is not None:
         return problem(parse_problem)
     if not isinstance(record, dict):
         return problem("record is not a JSON object")
-    key = str(number)
-    record_id = record.get(fields.id)
-    if isinstance(record_id, (str, int)) and not isinstance(record_id, bool) and str(record_id).strip():
-        key = str(record_id).strip()
+    key, id_problem = _record_key(record.get(fields.id), number, fields.id)
+    if id_problem:
+        return problem(id_problem)
     if key in seen_ids:
-        return problem(f"its key {key!r} is already used by an earlier record")
+        return problem(f"its id {key!r} is already used by an earlier record")
     seen_ids.add(key)
+    try:
+        canonical = canonical_json(record)
+    except (ValueError, RecursionError) as exc:
+        return problem(f"cannot be kept as JSON ({_parse_failure(exc)})")
     if fields.text not in record:
         return problem(f"no {fields.text!r} field")
     body = record[fields.text]
@@ -136,6 +159,24 @@ def _outcome(
         reference_source=f"field:{fields.summary}" if summary else None,
     )
     return RecordOutcome(locator, key, canonical, extract=extract)
+
+
+def _record_key(record_id: object, number: int, id_field: str) -> tuple[str, str | None]:
+    """The record's key and, when its id cannot serve, why. No id (absent or null)
+    gives the positional key '@N'."""
+    if record_id is None:
+        return f"@{number}", None
+    if isinstance(record_id, bool) or not isinstance(record_id, (str, int)):
+        kind = {bool: "a boolean", float: "a number with a fraction or exponent", list: "a list", dict: "an object"}
+        return "", f"{id_field!r} field is {kind.get(type(record_id), type(record_id).__name__)}; ids must be strings or integers"
+    key = str(record_id).strip() if isinstance(record_id, str) else str(record_id)
+    if not key:
+        return "", f"{id_field!r} field is empty"
+    if key.startswith("@"):
+        return "", f"{id_field!r} field starts with '@', which marks positional keys"
+    if len(key) > _MAX_ID_CHARS:
+        return "", f"{id_field!r} field is longer than {_MAX_ID_CHARS} characters"
+    return key, None
 
 
 def _other_fields(record: dict, fields: RecordFields) -> dict:
