@@ -20,6 +20,36 @@ class UsageError(SummarizerError):
     exit_status = 2
 
 
-class StoreNotReadable(SummarizerError, RuntimeError):
-    """A store opened for reading is missing, not a store, or of another schema version.
-    (Also a RuntimeError, which the writing commands catch for an unusable store.)"""
+class StoreUnusable(SummarizerError, RuntimeError):
+    """The store file cannot be used as it is: missing, damaged, foreign, too new,
+    read-only or full. The message names the file and the problem on one line. (Also a
+    RuntimeError, which the writing commands catch for an unusable store.)"""
+
+
+class StoreNotReadable(StoreUnusable):
+    """A store opened for reading is missing, not a store, damaged or of another schema version."""
+
+
+class StoreDamaged(StoreNotReadable):
+    """The file is an SQLite store that SQLite reports as damaged (truncated, corrupt)."""
+
+
+class NotAStore(StoreNotReadable):
+    """The file is not a summary store (random bytes, another program's database)."""
+
+
+class StoreTooNew(StoreNotReadable):
+    """The store was written by a newer version of this program."""
+
+
+class StoreReadOnly(StoreUnusable):
+    """A command that writes was given a store (or folder) it may not write."""
+
+
+class StoreFull(StoreUnusable):
+    """The disk holding the store is full; what was committed before stays consistent."""
+
+
+class OutputRefused(SummarizerError):
+    """An output file cannot be written where it was asked for (it would replace the
+    store, its folder is missing, the disk is full)."""

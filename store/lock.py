@@ -25,6 +25,8 @@ from datetime import UTC, datetime
 
 import psutil
 
+from store.errors import StoreReadOnly
+
 # Record locks do not exclude within one process, so the paths this process holds
 # are remembered here.
 _HELD_HERE: set[str] = set()
@@ -89,7 +91,15 @@ class StoreLock:
 
     def _lock_once(self) -> bool:
         """One attempt; True when this process now holds the lock."""
-        descriptor = os.open(self.lock_path, os.O_RDWR | os.O_CREAT, 0o644)
+        try:
+            descriptor = os.open(self.lock_path, os.O_RDWR | os.O_CREAT, 0o644)
+        except OSError as error:
+            if error.errno in (errno.EACCES, errno.EPERM, errno.EROFS):
+                raise StoreReadOnly(
+                    f"{self.db_path}: cannot write beside the store to take its lock ({error.strerror}); "
+                    "read-only commands (find, show, export, compare, report) still work"
+                ) from None
+            raise
         try:
             fcntl.lockf(descriptor, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except OSError as error:

@@ -31,12 +31,14 @@ and summary texts.
 
 from __future__ import annotations
 
+import os
 import sqlite3
-from pathlib import Path
+import urllib.parse
 
 import sqlite_utils
 
-from store.errors import StoreNotReadable
+from store.errors import StoreNotReadable, StoreReadOnly, StoreTooNew, StoreUnusable
+from store.health import check_store_file, check_tables, store_error
 
 SCHEMA_VERSION = 4
 
@@ -141,9 +143,10 @@ def _create_v1(db: sqlite_utils.Database) -> None:
 
 
 def _create_v2(db: sqlite_utils.Database) -> None:
-    """Version 2 adds the trained sentence scorers. ``model`` holds the pickled fitted
-    method (scikit-learn model and feature extractor), so only stores from a trusted
-    source should be opened; ``features`` is the feature list it expects."""
+    """Version 2 adds the trained sentence scorers. ``model`` holds the fitted method
+    (scikit-learn model and feature extractor) in skops' format, which loads without
+    running code (rows of earlier versions hold a pickle, never loaded; see
+    ``store/learned_models.py``); ``features`` is the feature list it expects."""
     db["learned_models"].create(
         {
             "id": int,
@@ -275,10 +278,39 @@ MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3, 4: _create_aspects_an
 
 
 def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
-    """Open (creating if needed) a store and bring its schema up to date; or, with
-    ``read_only``, open an existing store as it is, for reading only."""
-    if read_only:
-        return _open_read_only(path)
+    """Open a store and bring its schema up to date (creating the file if needed).
+
+    ``read_only`` opens an existing store without writing anything, not even on
+    open, so that it can be read in a folder (or on a medium) this process may not
+    write; a store of an older schema is upgraded first when it can be written.
+    Raises a one-line :class:`~store.errors.StoreUnusable` for a file that is not a
+    summary store, is damaged, or was written by a newer version.
+    """
+    check_store_file(path)
+    try:
+        if read_only:
+            return _open_readonly(path)
+        return _open_for_writing(path)
+    except sqlite3.Error as error:
+        raise store_error(error, path) from None
+    except OSError as error:
+        raise store_error(error, path) from None
+
+
+def _schema_state(db: sqlite_utils.Database, path: str) -> int:
+    """The store's schema version, after refusing foreign and newer databases."""
+    version = db.execute("PRAGMA user_version").fetchone()[0]
+    tables = {row[0] for row in db.execute("select name from sqlite_master where type = 'table'")}
+    check_tables(path, tables, version)
+    if version > SCHEMA_VERSION:
+        raise StoreTooNew(
+            f"{path}: store schema version {version} is newer than this program understands ({SCHEMA_VERSION}); "
+            "use the newer version of the program that wrote it"
+        )
+    return version
+
+
+def _open_for_writing(path: str) -> sqlite_utils.Database:
     db = sqlite_utils.Database(path)
     db.execute("PRAGMA foreign_keys = ON")
     db.execute("PRAGMA busy_timeout = 30000")
@@ -286,11 +318,7 @@ def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
     # nothing committed, and a power cut may lose the last commits but never
     # corrupts the file (sqlite.org/pragma.html#pragma_synchronous); a rerun redoes them.
     db.execute("PRAGMA synchronous = NORMAL")
-    version = db.execute("PRAGMA user_version").fetchone()[0]
-    if version > SCHEMA_VERSION:
-        raise RuntimeError(
-            f"{path}: store schema version {version} is newer than this program understands ({SCHEMA_VERSION})"
-        )
+    version = _schema_state(db, path)
     if version < SCHEMA_VERSION:
         # WAL lets readers (find, show, export) work while a run writes.
         db.enable_wal()
@@ -302,25 +330,39 @@ def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:
     return db
 
 
-def _open_read_only(path: str) -> sqlite_utils.Database:
+def _open_readonly(path: str) -> sqlite_utils.Database:
     """SQLite's own read-only mode: nothing is created, migrated or written. Besides
     ``mode=ro`` (the connection cannot write the file), ``PRAGMA query_only`` makes any
     write statement fail (sqlite.org/uri.html, sqlite.org/pragma.html#pragma_query_only)."""
-    if not Path(path).is_file():
+    if not os.path.isfile(path):
         raise StoreNotReadable(f"{path}: no such store")
-    connection = sqlite3.connect(f"{Path(path).absolute().as_uri()}?mode=ro", uri=True)
-    db = sqlite_utils.Database(connection)
+    uri = "file:" + urllib.parse.quote(os.path.abspath(path)) + "?mode=ro"
     try:
-        db.execute("PRAGMA query_only = ON")
-        db.execute("PRAGMA busy_timeout = 30000")
-        version = db.execute("PRAGMA user_version").fetchone()[0]
-    except sqlite3.DatabaseError as error:
+        db = _connect_readonly(uri)
+    except sqlite3.OperationalError:
+        # A WAL store in a folder this process cannot write, whose -shm file is absent,
+        # opens only as immutable (sqlite.org/wal.html#readonly); no writer can be at
+        # work there, since a writer needs that folder too.
+        db = _connect_readonly(uri + "&immutable=1")
+    version = _schema_state(db, path)
+    if version == 0:
+        raise StoreUnusable(f"{path}: an empty store (no run has stored anything yet)")
+    if version < SCHEMA_VERSION:
+        if not (os.access(path, os.W_OK) and os.access(os.path.dirname(os.path.abspath(path)), os.W_OK)):
+            raise StoreReadOnly(
+                f"{path}: store schema version {version} is older than this program's ({SCHEMA_VERSION}) and "
+                "the store cannot be written here to upgrade it; run `summarize run` on it where it can be"
+            )
         db.close()
-        raise StoreNotReadable(f"{path}: not a readable store ({error})") from None
-    if version != SCHEMA_VERSION:
-        db.close()
-        raise StoreNotReadable(
-            f"{path}: store schema version {version}, this program reads version {SCHEMA_VERSION}"
-            + (" (open it once for writing to upgrade it)" if version < SCHEMA_VERSION else "")
-        )
+        _open_for_writing(path).close()
+        db = _connect_readonly(uri)
     return db
+
+
+def _connect_readonly(uri: str) -> sqlite_utils.Database:
+    connection = sqlite3.connect(uri, uri=True)
+    connection.execute("PRAGMA query_only = ON")
+    connection.execute("PRAGMA busy_timeout = 30000")
+    # Opening is lazy: read the schema now, so that an unusable file fails here.
+    connection.execute("PRAGMA user_version").fetchone()
+    return sqlite_utils.Database(connection)

@@ -20,6 +20,7 @@ connection; nothing outside ``store/`` holds SQL.
 
 from __future__ import annotations
 
+import sqlite3
 from contextlib import contextmanager
 
 import sqlite_utils
@@ -29,6 +30,7 @@ from store.digests import Digests
 from store.documents import DocumentReads
 from store.evaluation import EvaluationStore
 from store.exports import ExportReads
+from store.health import known_store_error
 from store.learned_models import LearnedModels
 from store.queries import Queries
 from store.references import References
@@ -75,5 +77,13 @@ class Store(StoreWrites):
         write made outside an explicit transaction on its own, so a kill between two
         of them would leave, say, a document without its sentences.)
         """
-        with self.db.atomic():
-            yield
+        try:
+            with self.db.atomic():
+                yield
+        except sqlite3.Error as error:
+            # A full disk or a store that cannot be written ends in a one-line
+            # StoreUnusable (rolled back: the store stays as the last commit left it).
+            translated = known_store_error(error, self.path)
+            if translated is None:
+                raise
+            raise translated from None

@@ -6,7 +6,7 @@ prints: progress and errors on stderr, results on stdout (``--json`` for machine
 
 from __future__ import annotations
 
-import json
+import math
 import sys
 import textwrap
 from pathlib import Path
@@ -14,17 +14,21 @@ from pathlib import Path
 import click
 
 from store.errors import SummarizerError
+from store.health import sqlite_failure
 from store.lock import StoreLocked
+from store.printable import printable, terminal_text
 from store.queries import DocumentNotFound
 from store.search import parse_query
 from store.search_queries import MARK_END, MARK_START
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.seq2seq.models import ModelLoadError
+from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 from summarize.output.export import FORMATS
 from summarize.output.export import export as export_summaries
-from summarize.reading.ingest import RecordFields
+from summarize.reading.ingest import ReadLimits, RecordFields
+from summarize.reading.limits import MIB
 from summarize.runs.jobfile import load_job
 from summarize.runs.progress import Progress, configure_log_file
 from summarize.runs.progress import log as run_log
@@ -33,7 +37,7 @@ from summarize.runs.stopping import StopConditions, parse_until
 
 
 def _fail(message: str, status: int = EXIT_FAILED) -> None:
-    click.echo(f"error: {message}", err=True)
+    click.echo(f"error: {printable(message)}", err=True)
     sys.exit(status)
 
 
@@ -47,6 +51,39 @@ def _open_existing(db_path: str) -> Store:
     return Store(_existing(db_path), read_only=True)
 
 
+class _OneLineErrors(click.Group):
+    """Problems the user can act on end a command with one line on stderr, never a
+    traceback; SQLite's own errors are named for the store the command was given."""
+
+    def parse_args(self, ctx, args):
+        ctx.meta["arguments"] = list(args)
+        return super().parse_args(ctx, args)
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except SummarizerError as error:
+            click.echo(f"error: {printable(str(error))}", err=True)
+            sys.exit(error.exit_status)
+        except Exception as error:
+            translated = sqlite_failure(error, _store_argument(ctx))
+            if translated is None:
+                raise
+            click.echo(f"error: {printable(str(translated))}", err=True)
+            sys.exit(translated.exit_status)
+
+
+def _store_argument(ctx) -> str:
+    """The --db the command was given (for naming it in an error)."""
+    arguments = ctx.meta.get("arguments", [])
+    for index, argument in enumerate(arguments):
+        if argument == "--db" and index + 1 < len(arguments):
+            return arguments[index + 1]
+        if argument.startswith("--db="):
+            return argument.removeprefix("--db=")
+    return "the store"
+
+
 def _budget(_ctx, _param, value: str) -> Budget:
     try:
         return Budget.parse(value)
@@ -54,7 +91,7 @@ def _budget(_ctx, _param, value: str) -> Budget:
         raise click.BadParameter(str(error)) from None
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(cls=_OneLineErrors, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="archive-summarizer")
 def main() -> None:
     """Summarize document archives in batch and keep everything in one SQLite file.
@@ -76,6 +113,44 @@ def _load_job_defaults(ctx, _param, value):
     ctx.default_map = {**(ctx.default_map or {}), **{k: v for k, v in job.items() if k not in ("paths", "seq2seq", "aspects")}}
     ctx.meta["job"] = job
     return value
+
+
+# Read limits and link policy of `run` (summarize/reading/limits.py), in one block.
+_READ_LIMIT_OPTIONS = (
+    click.option("--max-file-mb", type=click.FloatRange(0, min_open=True), default=ReadLimits.max_file_bytes / MIB,
+                 show_default=True, help="Largest file read, in MB."),
+    click.option("--max-unpacked-mb", type=click.FloatRange(0, min_open=True),
+                 default=ReadLimits.max_unpacked_bytes / MIB, show_default=True,
+                 help="Most a DOCX may unpack to, and most text a PDF or e-mail body may give, in MB."),
+    click.option("--max-parts", type=click.IntRange(1), default=ReadLimits.max_parts, show_default=True,
+                 help="Most DOCX paragraphs, PDF pages or e-mail MIME parts in one file."),
+    click.option("--max-metadata-kb", type=click.FloatRange(0, min_open=True),
+                 default=ReadLimits.max_metadata_bytes / 1024, show_default=True,
+                 help="Most metadata (front matter, properties, fields) kept per document, in KB of JSON."),
+    click.option("--max-yaml-nodes", type=click.IntRange(1), default=ReadLimits.yaml_nodes, show_default=True,
+                 help="Most values in a front-matter block, every alias counted where it is used."),
+    click.option("--document-seconds", type=click.FloatRange(0), default=ReadLimits.document_seconds,
+                 show_default=True, help="Longest time to read and split one document (0: no limit)."),
+    click.option("--follow-links-outside", is_flag=True,
+                 help="Also read symbolic links whose target is outside the archive paths."),
+)
+
+
+def _read_limit_options(command):
+    for option in reversed(_READ_LIMIT_OPTIONS):
+        command = option(command)
+    return command
+
+
+def _read_limits(options: dict) -> ReadLimits:
+    return ReadLimits(
+        max_file_bytes=int(options["max_file_mb"] * MIB),
+        max_unpacked_bytes=int(options["max_unpacked_mb"] * MIB),
+        max_parts=options["max_parts"],
+        max_metadata_bytes=int(options["max_metadata_kb"] * 1024),
+        yaml_nodes=options["max_yaml_nodes"],
+        document_seconds=options["document_seconds"],
+    )
 
 
 @main.command()
@@ -118,10 +193,11 @@ def _load_job_defaults(ctx, _param, value):
               help="seq2seq: input window in tokens (default: the model's own).")
 @click.option("--long-mode", type=click.Choice(["select", "chunks"]), default=None,
               help="seq2seq: read the most salient sentences that fit (select, default) or the whole document in chunks.")
+@_read_limit_options
 @click.pass_context
 def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
         text_field, title_field, summary_field, date_field, id_field, as_json, model, allow_pickle_weights,
-        seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode):
+        seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode, **read_options):
     """Read every document under PATHS, summarize it with each method, store it.
 
     A rerun does only what is missing. Exit status: 0 all done; 1 nothing could be
@@ -164,6 +240,8 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
             stop=stop,
             lock_wait_seconds=wait_lock,
             progress=Progress(quiet=quiet),
+            limits=_read_limits(read_options),
+            follow_links_outside=read_options["follow_links_outside"],
         )
     except (ValueError, StoreLocked, RuntimeError, ModelLoadError) as error:
         run_log.error(str(error))
@@ -173,7 +251,7 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
         sys.exit(EXIT_STOPPED_EARLY)
     counts = report.counts()
     if as_json:
-        click.echo(json.dumps({"run_id": report.run_id, **counts, "errors": report.errors}, indent=2))
+        click.echo(strict_json.dumps({"run_id": report.run_id, **counts, "errors": report.errors}, indent=2))
     else:
         click.echo(_run_summary(report.run_id, counts))
     run_log.info(_run_summary(report.run_id, counts))
@@ -269,7 +347,7 @@ def find(query, db_path, method, limit, offset, as_json):
             }
             for hit in page.hits
         ]
-        click.echo(json.dumps({"total": page.total, "offset": offset, "hits": hits}, indent=2, ensure_ascii=False))
+        click.echo(strict_json.dumps({"total": page.total, "offset": offset, "hits": hits}, indent=2, ensure_ascii=False))
         return
     if not page.hits:
         click.echo(f"no matches for {query!r}", err=True)
@@ -277,11 +355,12 @@ def find(query, db_path, method, limit, offset, as_json):
     for hit in page.hits:
         status = "" if hit.status == "active" else f"  ({hit.status})"
         date = f"  {hit.date}" if hit.date else ""
-        click.echo(f"#{hit.document_id}  {hit.title or '(untitled)'}  [{hit.record_key}]{date}{status}")
+        title, key = printable(hit.title or "(untitled)"), printable(hit.record_key)
+        click.echo(f"#{hit.document_id}  {title}  [{key}]{printable(date)}{status}")
         if hit.snippet:
-            click.echo(f"    text: {_bracketed(hit.snippet)}")
+            click.echo(f"    text: {printable(_bracketed(hit.snippet))}")
         for match in hit.summary_matches[:3]:
-            click.echo(f"    {match.method}: {_bracketed(match.snippet)}")
+            click.echo(f"    {match.method}: {printable(_bracketed(match.snippet))}")
     shown = f"{offset + 1}-{offset + len(page.hits)}"
     click.echo(f"{shown} of {page.total} documents" + (f"; next: --offset {offset + limit}" if page.total > offset + limit else ""), err=True)
 
@@ -290,8 +369,16 @@ def _bracketed(snippet: str | None) -> str | None:
     return snippet.replace(MARK_START, "[").replace(MARK_END, "]") if snippet else snippet
 
 
+def _score_text(value: float | None) -> str:
+    """A stored score; SQLite keeps NaN as NULL, and infinity is no score either."""
+    return f"{value:.3f}" if isinstance(value, float) and math.isfinite(value) else "-"
+
+
 def _print_document(record: dict, highlight: bool) -> None:
-    doc = record["document"]
+    """Everything taken from a document passes through ``printable`` (one line) or
+    ``terminal_text`` (the source text): a document cannot send the terminal control
+    sequences."""
+    doc = {key: printable(value) if isinstance(value, str) else value for key, value in record["document"].items()}
     click.echo(f"#{doc['id']}  {doc['title'] or '(untitled)'}")
     click.echo(f"  source   {doc['path']}  ({doc['format']}, {doc['size']} bytes, {doc['characters']} characters)")
     click.echo(f"  record   {doc['record_key']}   status {doc['status']}   date {doc['date'] or '-'}")
@@ -302,18 +389,18 @@ def _print_document(record: dict, highlight: bool) -> None:
     reference = record["reference_summary"]
     if reference:
         click.echo(f"\nReference summary ({reference['source']}):")
-        click.echo(textwrap.indent(textwrap.fill(reference["text"], 88), "  "))
+        click.echo(textwrap.indent(textwrap.fill(printable(reference["text"]), 88), "  "))
     for summary in record["summaries"]:
-        scores = "  ".join(f"{m} F1 {v['f1']:.3f}" for m, v in sorted(summary["scores"].items()))
+        scores = "  ".join(f"{m} F1 {_score_text(v['f1'])}" for m, v in sorted(summary["scores"].items()))
         click.echo(f"\n{summary['method']}  (parameters {summary['param_hash']}, run {summary['run_id']}){'  ' + scores if scores else ''}")
         for sentence in summary["sentences"]:
-            click.echo(textwrap.fill(sentence["text"], 88, initial_indent=f"  {sentence['position'] + 1}. ", subsequent_indent="     "))
+            click.echo(textwrap.fill(printable(sentence["text"]), 88, initial_indent=f"  {sentence['position'] + 1}. ", subsequent_indent="     "))
             for source in sentence["sources"]:
                 label = "from" if source["similarity"] >= 0.999 else f"supported by ({source['similarity']:.2f})"
                 click.echo(f"     {label} chars {source['start']}-{source['end']}")
         for flag in summary["flags"]:
             where = f" (sentence {flag['position'] + 1})" if flag["position"] is not None else ""
-            click.echo(f"  ! check {flag['kind']}: {flag['detail']}{where}")
+            click.echo(f"  ! check {flag['kind']}: {printable(flag['detail'])}{where}")
     if highlight:
         text = record["text"]
         marks = sorted({(s["start"], s["end"]) for summary in record["summaries"] for sent in summary["sentences"] for s in sent["sources"]})
@@ -321,9 +408,9 @@ def _print_document(record: dict, highlight: bool) -> None:
         for start, end in marks:
             if start < cursor:
                 continue
-            pieces += [text[cursor:start], click.style(f">>{text[start:end]}<<", bold=True)]
+            pieces += [terminal_text(text[cursor:start]), click.style(f">>{terminal_text(text[start:end])}<<", bold=True)]
             cursor = end
-        pieces.append(text[cursor:])
+        pieces.append(terminal_text(text[cursor:]))
         click.echo("\nSource text (summary sentences marked >> <<):\n")
         click.echo("".join(pieces))
     click.echo(f"\n{CAUTION}")
@@ -344,7 +431,7 @@ def show(document, db_path, method, highlight, as_json):
     except DocumentNotFound as error:
         _fail(str(error))
     if as_json:
-        click.echo(json.dumps(record, indent=2, ensure_ascii=False))
+        click.echo(strict_json.dumps(record, indent=2, ensure_ascii=False))
     else:
         _print_document(record, highlight)
 
@@ -430,7 +517,7 @@ def score(db_path, budget, methods, wait_lock, as_json):
     except (ValueError, StoreLocked) as error:
         _fail(str(error))
     if as_json:
-        click.echo(json.dumps(outcome.as_dict(), indent=2))
+        click.echo(strict_json.dumps(outcome.as_dict(), indent=2))
     else:
         click.echo(
             f"score run {outcome.run_id}: {outcome.summaries_added} summaries added at budget "
@@ -515,7 +602,7 @@ def train(db_path, folds, model_kind, seed, wait_lock, as_json):
         _fail(f"{error} (`summarize choose` picks the best fixed method instead)")
     comparison = compare_methods(db_path, budget="reference")
     if as_json:
-        click.echo(json.dumps({"run_id": run_id, **outcome.as_dict(), "comparison": comparison.as_dict()}, indent=2))
+        click.echo(strict_json.dumps({"run_id": run_id, **outcome.as_dict(), "comparison": comparison.as_dict()}, indent=2))
         return
     kept = "reused stored model" if outcome.reused_model else "stored model"
     click.echo(
@@ -548,7 +635,7 @@ def choose(db_path, folds, seed, wait_lock, as_json):
     except StoreLocked as error:
         _fail(str(error))
     if as_json:
-        click.echo(json.dumps({"run_id": run_id, **decision.as_dict()}, indent=2))
+        click.echo(strict_json.dumps({"run_id": run_id, **decision.as_dict()}, indent=2))
         return
     click.echo(f"choose run {run_id}: {decision.method}{' (fallback)' if decision.fallback else ''}")
     click.echo(f"  why: {decision.reason}")

@@ -130,7 +130,7 @@ def compare(
         raise ValueError(f"measure must be one of {', '.join(MEASURES)}, got {measure!r}")
     wanted = None if budget in (None, "all") else MatchedBudget.parse(budget).label()
     bootstrap = PercentileBootstrap(resamples=resamples, confidence=confidence, seed=seed)
-    store = db_path if isinstance(db_path, Store) else Store(db_path)
+    store = db_path if isinstance(db_path, Store) else Store(db_path, read_only=True)
     try:
         summaries = store.evaluation.scored()
         sentences = store.evaluation.sentences([s.summary_id for s in summaries])

@@ -4,7 +4,10 @@ By default one method at one budget and setting is exported (see summary_choice.
 so each document gives one row; documents gone from disk and replaced versions are
 left out. Every format carries the caution (a ``caution`` field per row in CSV and
 JSON Lines, a paragraph at the top of Markdown and HTML). In HTML every string taken
-from a document or a summary is escaped.
+from a document or a summary is escaped, and so is HTML in Markdown (a Markdown
+viewer would render it); JSON Lines is strict (``summarize.output.strict_json``). The
+file is written whole or not at all, and never over the store
+(``summarize.output.written``).
 
 CSV is written for spreadsheets: UTF-8 with a byte-order mark (without one, a
 spreadsheet may read the file in a legacy code page and garble "m³"), line breaks
@@ -18,7 +21,6 @@ from __future__ import annotations
 
 import csv
 import html
-import json
 import re
 from dataclasses import asdict
 from pathlib import Path
@@ -26,8 +28,10 @@ from pathlib import Path
 from store.exports import ExportRow
 from store.store import Store
 from summarize.evaluation.budget_labels import budget_label
+from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 from summarize.output.summary_choice import SummaryChoice, choose_summaries, settings_text
+from summarize.output.written import atomic_text_file, check_output_path
 
 FORMATS = ("csv", "jsonl", "md", "html")
 CSV_COLUMNS = (
@@ -58,7 +62,7 @@ def _write_csv(rows: list[ExportRow], out) -> None:
     for row in rows:
         record = {key: getattr(row, key) for key in CSV_COLUMNS if hasattr(row, key)} | _labels(row)
         for key in ("source_spans", "rouge_f1"):
-            record[key] = json.dumps(record[key])
+            record[key] = strict_json.dumps(record[key])
         record["flags"] = "; ".join(row.flags)
         record["caution"] = CAUTION
         writer.writerow({key: spreadsheet_cell(value) for key, value in record.items()})
@@ -66,11 +70,12 @@ def _write_csv(rows: list[ExportRow], out) -> None:
 
 def _write_jsonl(rows: list[ExportRow], out) -> None:
     for row in rows:
-        out.write(json.dumps(asdict(row) | _labels(row) | {"caution": CAUTION}, ensure_ascii=False) + "\n")
+        out.write(strict_json.dumps(asdict(row) | _labels(row) | {"caution": CAUTION}, ensure_ascii=False) + "\n")
 
 
 def _markdown_cell(value: str | None) -> str:
-    return (value or "").replace("|", "\\|").replace("\n", " ")
+    """Text for one Markdown line: HTML escaped (shown, not rendered), table pipes escaped."""
+    return html.escape(value or "", quote=False).replace("|", "\\|").replace("\n", " ")
 
 
 def _write_markdown(rows: list[ExportRow], out) -> None:
@@ -173,10 +178,12 @@ def export(
     """Write one row per document for the summaries chosen by ``method``, ``budget``
     and ``setting`` (see summary_choice.py; by default the choice covering the most
     documents), or with ``every_summary`` every stored summary (of ``methods`` if
-    given), to ``out_path``. Returns the number of rows written and the choice."""
+    given), to ``out_path``. Returns the number of rows written and the choice. The
+    store's own files are never overwritten."""
+    check_output_path(out_path, db_path)
     with Store(db_path, read_only=True) as store:
         choice = None if every_summary else choose_summaries(store, method=method, budget=budget, key=setting)
         rows = selected_rows(store, choice, methods=methods, statuses=statuses)
-    with open(out_path, "w", encoding=_ENCODINGS.get(format, "utf-8"), newline="") as out:
+    with atomic_text_file(out_path, db_path, encoding=_ENCODINGS.get(format, "utf-8")) as out:
         write_rows(rows, format, out)
     return len(rows), choice

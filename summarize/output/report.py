@@ -26,6 +26,7 @@ from summarize.evaluation.bootstrap import Interval
 from summarize.evaluation.compare import BudgetGroup, Comparison, SystemResult, compare
 from summarize.evaluation.rouge import METRIC_LABELS, METRICS
 from summarize.output.caution import CAUTION
+from summarize.output.written import atomic_text_file, check_output_path
 
 _STYLE = """
 body { font-family: system-ui, sans-serif; margin: 2em auto; max-width: 72em; color: #1d1d1d; line-height: 1.45; }
@@ -227,7 +228,9 @@ def report(
     resamples: int = 1000,
     seed: int = 0,
 ) -> Path:
-    """Write the evaluation report for the store at ``db_path`` to ``out_path``."""
+    """Write the evaluation report for the store at ``db_path`` to ``out_path``
+    (whole or not at all, never over the store)."""
+    check_output_path(out_path, db_path)
     comparison = compare(db_path, budget=budget, resamples=resamples, seed=seed)
     caution = escape(CAUTION)
     parts = [
@@ -254,9 +257,9 @@ def report(
             f"<img alt='Summary lengths, {escape(group.budget)}' src='{length_chart(group, comparison)}'>",
         ]
     if comparison.groups:
-        with Store(db_path) as store:
+        with Store(db_path, read_only=True) as store:
             parts.append(_examples(store, comparison.groups[0], examples))
     parts += [f"<p class='caution'>{caution}</p>", "</body></html>"]
-    out = Path(out_path)
-    out.write_text("\n".join(parts), encoding="utf-8")
-    return out
+    with atomic_text_file(out_path, db_path) as out:
+        out.write("\n".join(parts))
+    return Path(out_path)

@@ -2,18 +2,18 @@
 
 from __future__ import annotations
 
-import json
 import math
 
 from summarize.evaluation.bootstrap import Interval
 from summarize.evaluation.compare import BASELINE, Comparison
 from summarize.evaluation.rouge import METRIC_LABELS, METRICS
+from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 
 
 def comparison_json(comparison: Comparison) -> str:
     """The comparison as indented JSON, with the caution."""
-    return json.dumps(comparison.as_dict() | {"caution": CAUTION}, indent=2, ensure_ascii=False)
+    return strict_json.dumps(comparison.as_dict() | {"caution": CAUTION}, indent=2, ensure_ascii=False)
 
 
 def _points(value: float, signed: bool = False) -> str:
