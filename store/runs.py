@@ -35,6 +35,7 @@ VERSIONED_PACKAGES = (
     "archive-summarizer",
     "pysbd",
     "scikit-learn",
+    "skops",
     "numpy",
     "scipy",
     "rouge-score",

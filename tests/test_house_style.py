@@ -18,7 +18,7 @@ from store.records import Document
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.learned.held_out import CrossValidation
-from summarize.methods.learned.house_style import HouseStyleSummarizer
+from summarize.methods.learned.house_style import TRUSTED_TYPES, HouseStyleSummarizer
 from summarize.methods.learned.method_choice import AutoForRun, HouseStyleForRun
 from summarize.methods.learned.sentence_features import FEATURE_NAMES
 from summarize.methods.learned.training import MIN_REFERENCED_DOCUMENTS, train_in_store, usable_folds
@@ -211,9 +211,10 @@ def test_stored_model_gives_the_same_summaries_from_a_new_store_object(tmp_path)
     reopened.close()
     assert loaded.id == model_id and loaded.training_documents == [1, 2, 3]
     assert loaded.features == list(FEATURE_NAMES) and loaded.metrics == {"note": "test"}
-    assert loaded.versions["scikit-learn"]
+    assert loaded.versions["scikit-learn"] and loaded.format == "skops"
+    method = loaded.load(TRUSTED_TYPES)
     for document, segmentation in data[22:]:
-        before, after = trained.summarize(document, segmentation), loaded.method.summarize(document, segmentation)
+        before, after = trained.summarize(document, segmentation), method.summarize(document, segmentation)
         assert [s.text for s in before.sentences] == [s.text for s in after.sentences]
         assert [s.score for s in before.sentences] == [s.score for s in after.sentences]
 

@@ -31,6 +31,14 @@ from summarize.methods.extractive import (
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
 
 MODELS = ("gradient-boosting", "logistic")
+# The types a stored house-style model is made of, beyond the NumPy, SciPy and
+# scikit-learn types skops trusts by default: loading refuses any other.
+TRUSTED_TYPES = (
+    "sklearn.ensemble._hist_gradient_boosting.predictor.TreePredictor",
+    "summarize.methods.budget.Budget",
+    "summarize.methods.learned.house_style.HouseStyleSummarizer",
+    "summarize.methods.learned.sentence_features.SentenceFeatures",
+)
 Example = tuple[Document, Segmentation]
 
 

@@ -19,7 +19,7 @@ from store.runs import recorded_run
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
-from summarize.methods.learned.house_style import HouseStyleSummarizer
+from summarize.methods.learned.house_style import TRUSTED_TYPES, HouseStyleSummarizer
 from summarize.methods.learned.sentence_features import FEATURE_NAMES
 from summarize.methods.learned.training import (
     FIXED_METHODS,
@@ -129,7 +129,7 @@ def choose_in_store(
 
 def _pretrained(store: Store, budget: Budget, mmr_lambda: float | None) -> PretrainedMethod:
     stored = store.models.latest(LEARNED)
-    method = copy.copy(stored.method)
+    method = copy.copy(stored.load(TRUSTED_TYPES))
     method.budget = budget
     method.mmr_lambda = mmr_lambda
     return PretrainedMethod(method, stored.id, frozenset(stored.training_documents))

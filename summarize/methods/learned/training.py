@@ -23,6 +23,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from store.learned_models import SKOPS
 from store.records import param_hash
 from store.runs import recorded_run
 from store.store import Store
@@ -152,8 +153,10 @@ def train_in_store(
         )
     }
     latest = store.models.latest(prototype.name)
+    # A model in an earlier, unsafe format is replaced, never loaded.
     current = (
         latest is not None
+        and latest.format == SKOPS
         and latest.training_documents == sorted(ids)
         and latest.features == list(FEATURE_NAMES)
         and latest.params == prototype.get_params()
