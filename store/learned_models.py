@@ -17,7 +17,6 @@ import zipfile
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-import skops.io
 import sqlite_utils
 
 from store.errors import SummarizerError
@@ -66,6 +65,8 @@ class LearnedModel:
                 f"{where} is in the pickle format of earlier versions, which can run code when loaded, "
                 f"so it was not loaded; {retrain}"
             )
+        import skops.io  # imported on use: it brings scikit-learn, which `import store` should not
+
         try:
             untrusted = set(skops.io.get_untrusted_types(data=self.blob)) - set(trusted_types)
         except (zipfile.BadZipFile, ValueError, KeyError, TypeError, json.JSONDecodeError) as error:
@@ -96,6 +97,8 @@ class LearnedModels:
         metrics: dict,
     ) -> int:
         """Store a fitted method; returns the new row's id."""
+        import skops.io  # imported on use: it brings scikit-learn, which `import store` should not
+
         with self.db.atomic():
             return self.db["learned_models"].insert(
                 {
