@@ -277,3 +277,21 @@ def test_read_only_commands_work_on_a_store_in_a_folder_they_cannot_write(nobody
     refused = run_cli(["run", str(archive), "--db", str(db), "--quiet"], as_user=nobody)
     assert refused.exit_status == 1 and len(refused.stderr.splitlines()) == 1
     assert "cannot write beside the store" in refused.stderr
+
+
+def test_job_file_sets_limits_and_the_link_policy(tmp_path):
+    archive = tmp_path / "archive"
+    archive.mkdir()
+    outside = tmp_path / "outside.txt"
+    outside.write_text(TEXT, encoding="utf-8")
+    os.symlink(outside, archive / "linked.txt")
+    job = tmp_path / "night.toml"
+    job.write_text('paths = ["archive"]\ndb = "s.sqlite"\nfollow_links_outside = true\nmax_parts = 12\n'
+                   "document_seconds = 30\n", encoding="utf-8")
+    result = run_cli(["run", "--job", str(job), "--quiet"])
+    assert result.exit_status == 0, result.stderr
+    [(config,)] = _rows(tmp_path / "s.sqlite", "select config from runs")
+    config = json.loads(config)
+    assert config["follow_links_outside"] is True
+    assert (config["read_limits"]["max_parts"], config["read_limits"]["document_seconds"]) == (12, 30)
+    assert _rows(tmp_path / "s.sqlite", "select record_key from documents") == [(str(archive / "linked.txt"),)]
