@@ -12,8 +12,9 @@ Conventions:
 * ``record_key`` is the absolute path (made absolute, links not resolved; bytes
   of a name that are not UTF-8 written ``\\xNN``, the exact bytes kept in the
   metadata as ``path_bytes``); a JSON/JSONL record adds
-  '#<id>' (its id field) or '#<N>' (its position: element N of a .json list,
-  line N of a .jsonl file, both from 1).
+  '#<id>' (its id field, a string or an integer) or '#@<N>' (its position:
+  element N of a .json list, line N of a .jsonl file, both from 1); the '@'
+  keeps positions and ids apart.
 * Reference summaries are taken, in order of precedence, from a sidecar file
   (``NAME.summary.txt`` or ``.md``), from front matter or a record field, or
   from a leading summary section. A leading summary section is cut out of the
