@@ -9,6 +9,7 @@ Python API (the ``summarize aspects`` commands call these):
 
 from __future__ import annotations
 
+import copy
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -26,6 +27,7 @@ from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.rouge import RougeMetric
 from summarize.methods.aspects.definitions import REPORT_ASPECTS, Aspect, aspects_from_mapping
 from summarize.methods.aspects.learned import ASPECT_FEATURE_NAMES, LearnedAspectSummarizer
+from summarize.methods.aspects.learned import TRUSTED_TYPES as LEARNED_ASPECT_TYPES
 from summarize.methods.aspects.references import aspect_references
 from summarize.methods.aspects.selection import ASPECT_BUDGET, AspectSummarizer, aspect_params
 from summarize.methods.budget import Budget
@@ -87,7 +89,7 @@ def _summarizer(store: Store, method: str, budget: Budget):
             raise AspectModelMissing(
                 f"{store.path}: no trained aspect-learned model in the store (train one with `summarize aspects train`)"
             )
-        summarizer = model.method
+        summarizer = copy.copy(model.load(LEARNED_ASPECT_TYPES))
         summarizer.budget = budget
         return summarizer
     raise UsageError(f"aspect method must be one of {', '.join(ASPECT_METHODS)}, got {method!r}")

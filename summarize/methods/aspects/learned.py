@@ -31,6 +31,7 @@ from summarize.methods.aspects.selection import (
 )
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
+from summarize.methods.learned.house_style import TRUSTED_TYPES as HOUSE_STYLE_TRUSTED_TYPES
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
 
 ASPECT_FEATURE_NAMES = (*FEATURE_NAMES, "aspect_evidence", "aspect_evidence_rank", "aspect_phrase_hits",
@@ -40,6 +41,17 @@ Example = tuple[Document, Segmentation]
 TUNABLE = ("c", "bias", "min_probability", "relevance")
 RELEVANCE_RULES = ("probability", "probability-evidence")
 
+
+# The types a stored aspect-learned model is made of, beyond those a house-style model
+# needs and those skops trusts by default: loading refuses any other.
+TRUSTED_TYPES = (
+    *HOUSE_STYLE_TRUSTED_TYPES,
+    "summarize.methods.aspects.definitions.Aspect",
+    "summarize.methods.aspects.learned.LearnedAspectSummarizer",
+    "summarize.methods.aspects.lexrank.stemmed_words",
+    "summarize.methods.aspects.relevance.QueryRelevance",
+    "summarize.methods.aspects.selection.AspectSummarizer",
+)
 
 @dataclass(frozen=True)
 class SentenceEvidence:
