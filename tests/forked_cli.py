@@ -58,8 +58,13 @@ def run_cli(args: list[str], timeout: float = 20.0, memory_mb: int = 768, as_use
                 sys.stderr = os.fdopen(2, "w", closefd=False)
                 resource.setrlimit(resource.RLIMIT_AS, (ceiling, ceiling))
                 if as_user is not None:
+                    import importlib
                     import pwd
 
+                    # Codecs load on first use, from an installation the unprivileged
+                    # user may not be able to read (a Python under /root): load them first.
+                    for codec in ("utf_8_sig", "utf_16", "utf_16_le", "utf_16_be", "cp1252", "latin_1", "ascii"):
+                        importlib.import_module(f"encodings.{codec}")
                     os.setgid(pwd.getpwuid(as_user).pw_gid)
                     os.setgroups([])
                     os.setuid(as_user)
