@@ -15,6 +15,7 @@ import hashlib
 import os
 import stat
 
+from store.printable import printable
 from store.store import Store
 from summarize.runs.progress import Progress
 
@@ -71,7 +72,8 @@ class FailureSorter:
         self._sort(record_key, reason, f"sha256:{sha256}", method, new)
 
     def _sort(self, path: str, reason: str, what: str | None, method: str | None, new: list[str]) -> None:
-        line = f"{path}: {reason}"
+        # One line whatever the path holds (a newline or an escape in a file name).
+        line = printable(f"{path}: {reason}")
         since = self.store.failures.record(self.run_id, path, reason, what, method)
         if since is None:
             new.append(line)
