@@ -104,6 +104,15 @@ class DocumentReads:
             for row in self.db.execute("select id, record_key, status from documents where status = 'active'")
         ]
 
+    def current(self) -> list[StoredVersion]:
+        """Every active or duplicate document: the store's current version of each file."""
+        return [
+            StoredVersion(*row)
+            for row in self.db.execute(
+                "select id, record_key, status from documents where status in ('active', 'duplicate')"
+            )
+        ]
+
     def count(self) -> int:
         return self.db.execute("select count(*) from documents").fetchone()[0]
 

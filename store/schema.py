@@ -6,7 +6,8 @@ One file holds everything, readable with any SQLite tool:
     document_sentences   sentence spans of each document (provenance, highlighting)
     reference_summaries  the human summary found for a document, and where
     runs                 one row per run: configuration, library versions, host, outcome
-    ingest_problems      files that could not be read (or were skipped), per run
+    ingest_problems      files that could not be read (or were skipped), per run, with
+                         a fingerprint of what failed (version 5): known failures
     summaries            one per (document, method, parameter hash)
     summary_sentences    each summary sentence, in order
     sentence_sources     the source span(s) behind each summary sentence
@@ -40,7 +41,7 @@ import sqlite_utils
 from store.errors import StoreNotReadable, StoreReadOnly, StoreTooNew, StoreUnusable
 from store.health import check_store_file, check_tables, store_error
 
-SCHEMA_VERSION = 4
+SCHEMA_VERSION = 5
 
 
 def _create_v1(db: sqlite_utils.Database) -> None:
@@ -274,7 +275,22 @@ def _create_aspects_and_digests(db: sqlite_utils.Database) -> None:
     )
 
 
-MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3, 4: _create_aspects_and_digests}
+
+def _add_failure_fingerprints(db: sqlite_utils.Database) -> None:
+    """Version 5 lets a run tell a known failure from a new one: each problem keeps
+    a fingerprint of what failed (store/failures.py), the method that failed on it
+    (NULL for reading and splitting), and, when the same content failed the same way
+    in an earlier run, the first run of that streak. Documents get
+    an index on their file path, by which a failure is checked against the last
+    successful reading of that file."""
+    db["ingest_problems"].add_column("fingerprint", str)
+    db["ingest_problems"].add_column("method", str)
+    db["ingest_problems"].add_column("known_since", int)
+    db["ingest_problems"].create_index(["path", "fingerprint"])
+    db["documents"].create_index(["path"])
+
+
+MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3, 4: _create_aspects_and_digests, 5: _add_failure_fingerprints}
 
 
 def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:

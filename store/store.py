@@ -12,6 +12,7 @@ through this object.
     store.runs.begin("score", config)           # run bookkeeping (see store/runs.py)
     store.aspects.rows(document_ids)            # aspect summaries
     store.digests.record("incident-causes")     # digests across documents
+    store.failures.record(run_id, path, reason, fingerprint)   # known or new failures
     store.add_summary(document_id, run_id, summary)   # writes (see store/writes.py)
 
 Each concern lives in its own module and reaches the database through the handle's
@@ -30,6 +31,7 @@ from store.digests import Digests
 from store.documents import DocumentReads
 from store.evaluation import EvaluationStore
 from store.exports import ExportReads
+from store.failures import FailureHistory
 from store.health import known_store_error
 from store.learned_models import LearnedModels
 from store.queries import Queries
@@ -58,6 +60,7 @@ class Store(StoreWrites):
         self.runs = RunLog(self.db)
         self.aspects = AspectSummaries(self.db)
         self.digests = Digests(self.db)
+        self.failures = FailureHistory(self.db)
 
     def close(self) -> None:
         self.db.close()

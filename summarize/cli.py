@@ -27,6 +27,7 @@ from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 from summarize.output.export import FORMATS
 from summarize.output.export import export as export_summaries
+from summarize.reading.exclusions import BadExcludePattern, check_patterns
 from summarize.reading.ingest import ReadLimits, RecordFields
 from summarize.reading.limits import MIB
 from summarize.runs.jobfile import load_job
@@ -110,7 +111,10 @@ def _load_job_defaults(ctx, _param, value):
         job = load_job(value)
     except ValueError as error:
         raise click.BadParameter(str(error)) from None
-    ctx.default_map = {**(ctx.default_map or {}), **{k: v for k, v in job.items() if k not in ("paths", "seq2seq", "aspects")}}
+    ctx.default_map = {
+        **(ctx.default_map or {}),
+        **{k: v for k, v in job.items() if k not in ("paths", "seq2seq", "aspects", "exclude")},
+    }
     ctx.meta["job"] = job
     return value
 
@@ -180,6 +184,11 @@ def _read_limits(options: dict) -> ReadLimits:
 @click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
 @click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
 @click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
+@click.option("--exclude", "exclude", multiple=True, metavar="PATTERN",
+              help="Leave out paths matching PATTERN (repeatable; added to the job file's and the archive's "
+                   ".summarize-exclude patterns): 'drafts', '*.tmp', 'scans/2019', '**/raw/'.")
+@click.option("--strict-exit", is_flag=True, default=None,
+              help="Exit 3 on any failure, also on files that failed before with unchanged content.")
 @click.option("--model", default=None, metavar="DIR",
               help="seq2seq: checkpoint directory, or a repository id already in the local Hugging Face cache.")
 @click.option("--allow-pickle-weights", is_flag=True,
@@ -196,14 +205,16 @@ def _read_limits(options: dict) -> ReadLimits:
 @_read_limit_options
 @click.pass_context
 def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
-        text_field, title_field, summary_field, date_field, id_field, as_json, model, allow_pickle_weights,
-        seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode, **read_options):
+        text_field, title_field, summary_field, date_field, id_field, as_json, exclude, strict_exit, model,
+        allow_pickle_weights, seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode,
+        **read_options):
     """Read every document under PATHS, summarize it with each method, store it.
 
-    A rerun does only what is missing. Exit status: 0 all done; 1 nothing could be
-    done (bad option, store locked or unusable); 3 finished, but some files or
-    summaries failed (listed on stderr and in the store); 4 stopped early by the time
-    budget or a signal (rerun to finish).
+    A rerun does only what is missing. Exit status: 0 all done (files that failed
+    before with unchanged content are listed as known failures, not counted); 1
+    nothing could be done (bad option, store locked or unusable); 3 finished, but
+    some files or summaries failed anew (listed on stderr and in the store); 4
+    stopped early by the time budget or a signal (rerun to finish).
     """
     job = ctx.meta.get("job", {})
     paths = list(paths) or job.get("paths", [])
@@ -211,6 +222,10 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
         raise click.UsageError("give at least one PATH (or a --job file with paths)")
     if not db:
         raise click.UsageError("--db is required (or a --job file with db)")
+    try:
+        exclude = check_patterns([*job.get("exclude", []), *exclude])
+    except BadExcludePattern as error:
+        raise click.BadParameter(str(error), param_hint="--exclude") from None
     configure_log_file(log)
     fields = RecordFields(text=text_field, title=title_field, summary=summary_field, date=date_field, id=id_field)
     method_names = [m.strip() for m in methods.split(",") if m.strip()]
@@ -242,6 +257,8 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
             progress=Progress(quiet=quiet),
             limits=_read_limits(read_options),
             follow_links_outside=read_options["follow_links_outside"],
+            exclude=exclude,
+            strict_exit=bool(strict_exit),
         )
     except (ValueError, StoreLocked, RuntimeError, ModelLoadError) as error:
         run_log.error(str(error))
@@ -251,9 +268,13 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
         sys.exit(EXIT_STOPPED_EARLY)
     counts = report.counts()
     if as_json:
-        click.echo(strict_json.dumps({"run_id": report.run_id, **counts, "errors": report.errors}, indent=2))
+        click.echo(strict_json.dumps(
+            {"run_id": report.run_id, **counts, "errors": report.errors, "known_errors": report.known_failures}, indent=2
+        ))
     else:
         click.echo(_run_summary(report.run_id, counts))
+        for line in report.known_failures:
+            click.echo(f"  known failure: {line}")
     run_log.info(_run_summary(report.run_id, counts))
     if report.stop_reason:
         click.echo(f"stopped early ({report.stop_reason}); rerun the same command to finish", err=True)
@@ -312,7 +333,8 @@ def _run_summary(run_id: int, counts: dict) -> str:
         f"({counts['documents_added']} new, {counts['duplicates']} duplicates, {counts['missing']} gone from disk); "
         f"{counts['documents_summarized']} documents summarized ({counts['summaries_added']} summaries added, "
         f"{counts['summaries_skipped']} already stored, {counts['summaries_failed']} failed); "
-        f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped; "
+        f"{counts['files_failed']} files failed, {counts['files_skipped']} skipped, "
+        f"{counts['known_failures']} known failures (failed before, content unchanged); "
         f"{counts['documents_remaining']} documents remaining{unread}; {counts['seconds']:.1f}s{rate}"
     )
 

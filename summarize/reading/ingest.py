@@ -33,10 +33,11 @@ from __future__ import annotations
 import hashlib
 import json
 import os
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from pathlib import Path
 
 from store.records import Document
+from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.limits import LimitExceeded, ReadLimits, current_limits, time_limit, using_limits
 from summarize.reading.readers.blocks import Extract, assemble
 from summarize.reading.readers.docx import read_docx
@@ -96,16 +97,24 @@ def iter_archive(
     fields: RecordFields = RecordFields(),
     limits: ReadLimits = ReadLimits(),
     follow_links_outside: bool = False,
+    exclude: Sequence[str] = (),
 ) -> Iterator[Document | IngestProblem]:
     """Documents and problems for the given files and folders, in a
     deterministic order. Summary sidecars next to a document are not yielded; a
-    file reached twice (through links) is read once. See ``summarize.reading.walk``
+    file reached twice (through links) is read once; ``exclude`` patterns (see
+    ``summarize.reading.exclusions``) leave paths out. See ``summarize.reading.walk``
     for what the walk reads and what it reports."""
     # Absolute keys, so that `archive/` one night and `/srv/archive` the next name
     # the same records (links are not resolved: the path the operator uses counts).
-    walk = ArchiveWalk([os.path.abspath(given) for given in paths], follow_links_outside)
+    roots = [os.path.abspath(given) for given in paths]
+    exclusions = ArchiveExclusions.load(roots, exclude)
+    for problem_path, reason in exclusions.problems:
+        yield IngestProblem(display_path(problem_path), reason, "error")
+    walk = ArchiveWalk(roots, follow_links_outside)
     seen: set[str] = set()
     for file in walk:
+        if _left_out(file, exclusions):
+            continue
         if isinstance(file, IngestProblem):
             yield file
             continue
@@ -116,13 +125,26 @@ def iter_archive(
         yield from _ingest(file, fields, limits, walk)
 
 
-def archive_files(paths: Iterable[str | Path], follow_links_outside: bool = False) -> Iterator[str]:
+def archive_files(
+    paths: Iterable[str | Path], follow_links_outside: bool = False, exclude: Sequence[str] = ()
+) -> Iterator[str]:
     """The document files under ``paths``, named as documents' paths are, without
     reading any of them: what a full walk would read."""
-    walk = ArchiveWalk([os.path.abspath(given) for given in paths], follow_links_outside)
-    for file in walk:
-        if isinstance(file, Path) and file.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(file):
+    roots = [os.path.abspath(given) for given in paths]
+    exclusions = ArchiveExclusions.load(roots, exclude)
+    for file in ArchiveWalk(roots, follow_links_outside):
+        if isinstance(file, IngestProblem) or _left_out(file, exclusions):
+            continue
+        if file.suffix.lower() in SUPPORTED_SUFFIXES and not is_sidecar_name(file):
             yield display_path(file)
+
+
+def _left_out(found: Path | IngestProblem, exclusions: ArchiveExclusions) -> bool:
+    """Whether the exclude patterns leave out a file the walk found, or a folder it
+    could not list."""
+    if isinstance(found, IngestProblem):
+        return exclusions.excludes(found.path, is_folder=found.unlisted)
+    return exclusions.excludes(found)
 
 
 def read_file(

@@ -8,6 +8,7 @@
     workers = 2
     until = "06:30"
     log = "/var/log/summaries/night.log"
+    exclude = ["drafts", "*.tmp"]
 
     [seq2seq]
     model = "/models/flan-t5-small"
@@ -18,7 +19,8 @@
     phrases = ["root cause", "because", "due to"]
 
 Keys are the long option names of ``summarize run`` with dashes written as
-underscores; a flag given on the command line overrides the job file.
+underscores; a flag given on the command line overrides the job file, except
+``--exclude``, whose patterns are added to the job file's.
 """
 
 from __future__ import annotations
@@ -50,6 +52,8 @@ RUN_KEYS = {
     "max_yaml_nodes": int,
     "document_seconds": (int, float),
     "follow_links_outside": bool,
+    "exclude": list,
+    "strict_exit": bool,
     "seq2seq": dict,
     "aspects": dict,
 }
@@ -70,6 +74,8 @@ def load_job(path: str | Path) -> dict:
             raise ValueError(f"{path}: unknown setting {key!r} (known: {', '.join(sorted(RUN_KEYS))})")
         if not isinstance(value, RUN_KEYS[key]):
             raise ValueError(f"{path}: setting {key!r} has the wrong type ({type(value).__name__})")
+    if not all(isinstance(pattern, str) for pattern in job.get("exclude", [])):
+        raise ValueError(f"{path}: setting 'exclude' must be a list of patterns (strings)")
     base = path.parent
     if "paths" in job:
         job["paths"] = [str(base / p) for p in job["paths"]]

@@ -23,8 +23,9 @@ from __future__ import annotations
 
 import os
 import time
-from collections.abc import Iterable, Iterator
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import asdict, dataclass, field
+from itertools import groupby
 from pathlib import Path
 
 from store.lock import describe_holder
@@ -33,9 +34,12 @@ from store.runs import recorded_run
 from store.store import Store
 from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
+from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, archive_files, iter_archive
 from summarize.runs.executors import check_scheduler, make_executor
+from summarize.runs.known_failures import FailureSorter
 from summarize.runs.progress import Progress
+from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
 
 # Exit statuses of `summarize run` (documented in the README).
@@ -62,18 +66,24 @@ class RunReport:
     summaries_skipped: int = 0
     documents_remaining: int = 0
     files_unread: int = 0
+    unread: list[str] = field(default_factory=list)
     stop_reason: str | None = None
     errors: list[str] = field(default_factory=list)
     skipped_files: list[str] = field(default_factory=list)
     failed_summaries: list[str] = field(default_factory=list)
+    known_failures: list[str] = field(default_factory=list)
+    strict_exit: bool = False
     seconds: float = 0.0
     documents_summarized: int = 0
 
     @property
     def exit_status(self) -> int:
+        """``errors`` and ``failed_summaries`` are new failures; known ones (unchanged
+        content that failed before) count only for a strict run."""
         if self.stop_reason:
             return EXIT_STOPPED_EARLY
-        return EXIT_SOME_FILES_FAILED if self.errors or self.failed_summaries else EXIT_OK
+        failed = self.errors or self.failed_summaries or (self.strict_exit and self.known_failures)
+        return EXIT_SOME_FILES_FAILED if failed else EXIT_OK
 
     def counts(self) -> dict:
         return {
@@ -89,6 +99,7 @@ class RunReport:
             "files_failed": len(self.errors),
             "files_skipped": len(self.skipped_files),
             "summaries_failed": len(self.failed_summaries),
+            "known_failures": len(self.known_failures),
             "stop_reason": self.stop_reason,
             "seconds": round(self.seconds, 3),
             "documents_per_second": round(self.documents_summarized / self.seconds, 3) if self.seconds else None,
@@ -129,13 +140,9 @@ def _under(record_key: str, roots: list[str]) -> bool:
     return any(path == root or path.startswith(root.rstrip(os.sep) + os.sep) for root in roots)
 
 
-def _file_of(key: str) -> str:
-    """The file behind a record key or problem path ('a.jsonl#3' -> 'a.jsonl')."""
-    return key.split("#", 1)[0]
-
-
 def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading) -> list[int]:
-    """Pass 1. Returns the ids of the current, non-duplicate documents seen.
+    """Pass 1. Returns the ids of the current, non-duplicate documents seen; a stopped
+    pass sets ``report.unread`` to the files it did not read to the end.
 
     This process reads the files and writes the store; splitting new documents into
     sentences (the costly part) goes to the executor, and comes back in archive order.
@@ -145,7 +152,8 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     files_failed: set[str] = set()
     unlisted: list[str] = []
     document_ids: list[int] = []
-    walked_everything = True
+    tracker = ReadingTracker()
+    failures = FailureSorter(store, run_id, report, progress)
 
     def counted(document_id: int, added: bool, status: str) -> None:
         report.documents_seen += 1
@@ -158,58 +166,63 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     def new_documents() -> Iterator[Document]:
         """Walk the archive; record problems and known documents at once; yield the
         documents to split and store."""
-        nonlocal walked_everything
-        for item in iter_archive(paths, fields, **reading):
-            if stop.reason():
-                walked_everything = False
-                return
-            if isinstance(item, IngestProblem):
-                files_visited.add(_file_of(item.path))
-                store.runs.record_problem(run_id, item.path, item.kind, item.reason)
-                if item.unlisted:
-                    unlisted.append(item.path)
-                if item.kind == "error":
-                    files_failed.add(_file_of(item.path))
-                    report.errors.append(str(item))
-                    progress.error(str(item))
+        # A file's items come together (its documents and problems), so a file whose
+        # every item is stored or recorded is known to be read to its end.
+        for file, items in groupby(iter_archive(paths, fields, **reading), key=lambda item: file_of(item.path)):
+            items = list(items)
+            tracker.starting(file, len(items))
+            for item in items:
+                if stop.reason():
+                    return
+                if isinstance(item, IngestProblem):
+                    files_visited.add(file_of(item.path))
+                    if item.unlisted:
+                        unlisted.append(item.path)
+                    if item.kind == "error":
+                        files_failed.add(file_of(item.path))
+                        failures.file_failed(item.path, item.reason)
+                    else:
+                        store.runs.record_problem(run_id, item.path, item.kind, item.reason)
+                        report.skipped_files.append(str(item))
+                    tracker.done(item.path)
+                    continue
+                if item.path not in files_visited:
+                    files_visited.add(item.path)
+                    progress.advance()
+                seen_keys.add(item.record_key)
+                if store.find_document(item.record_key, item.sha256) is not None:
+                    counted(*store.add_document(item, None, run_id))
+                    tracker.done(item.path)
                 else:
-                    report.skipped_files.append(str(item))
-                continue
-            if item.path not in files_visited:
-                files_visited.add(item.path)
-                progress.advance()
-            seen_keys.add(item.record_key)
-            if store.find_document(item.record_key, item.sha256) is not None:
-                counted(*store.add_document(item, None, run_id))
-            else:
-                yield item
+                    yield item
+        tracker.walk_ended()
 
     progress.start(None, "files read")
     document_seconds = reading["limits"].document_seconds
     with make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor:
         for document, segmentation in executor.split_documents(new_documents(), stop):
             if isinstance(segmentation, Exception):
-                store.runs.record_problem(run_id, document.record_key, "error", str(segmentation))
-                report.errors.append(f"{document.record_key}: {segmentation}")
-                progress.error(f"{document.record_key}: {segmentation}")
-                continue
-            counted(*store.add_document(document, segmentation, run_id))
+                failures.document_failed(document.record_key, document.sha256, str(segmentation))
+            else:
+                counted(*store.add_document(document, segmentation, run_id))
+            tracker.done(document.path)
     progress.close()
-    if not walked_everything:
+    # An executor that stops early leaves this walk unfinished without a word: only
+    # a walk that reached its end, with nothing still out, has read the archive.
+    if not tracker.everything_read:
         follow = reading.get("follow_links_outside", False)
-        report.files_unread = sum(1 for path in archive_files(paths, follow) if path not in files_visited)
+        report.unread = tracker.unread(archive_files(paths, follow, reading.get("exclude", ())))
+        report.files_unread = len(report.unread)
         return document_ids
     roots = [os.path.abspath(p) for p in paths]
+    excluded = ArchiveExclusions.load(roots, reading.get("exclude", ())).excludes
     for stored in store.documents.active():
         # A file that is still there but failed to read this time keeps its last good version;
-        # a document under a folder that could not be listed (or an absent root) may well be there.
+        # a document under a folder that could not be listed (or an absent root) may well be there;
+        # an excluded file is left as it was: nothing says it is gone.
         key = stored.record_key
-        if (
-            key not in seen_keys
-            and _file_of(key) not in files_failed
-            and _under(key, roots)
-            and not _under(key, unlisted)
-        ):
+        gone = key not in seen_keys and file_of(key) not in files_failed and _under(key, roots)
+        if gone and not _under(key, unlisted) and not excluded(file_of(key)):
             store.mark_missing(stored.id)
             report.missing += 1
     return document_ids
@@ -232,13 +245,17 @@ def run_archive(
     config_extra: dict | None = None,
     limits: ReadLimits = ReadLimits(),
     follow_links_outside: bool = False,
+    exclude: Sequence[str] = (),
+    strict_exit: bool = False,
 ) -> RunReport:
     """Summarize every document under ``paths`` into the store at ``db_path``.
 
     ``summarizers`` may pass ready-made method objects instead of names (they must
     offer ``name``, ``get_params``, ``fit`` and ``summarize``). ``limits`` bound what
     one file may cost (``summarize.reading.limits``); links leading out of ``paths``
-    are followed only with ``follow_links_outside``. Raises
+    are followed only with ``follow_links_outside``; ``exclude`` patterns leave paths
+    out (``summarize.reading.exclusions``); ``strict_exit`` makes known failures count
+    in the exit status as new ones do. Raises
     :class:`~store.lock.StoreLocked` when another run holds the store.
     """
     paths = [str(p) for p in paths]
@@ -262,6 +279,8 @@ def run_archive(
         "workers": workers,
         "scheduler": scheduler,
         "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
+        "exclude": list(exclude),
+        "strict_exit": strict_exit,
         **(config_extra or {}),
     }
     with recorded_run(db_path, "run", config, lock_wait_seconds, progress.message) as run, stop:
@@ -274,9 +293,9 @@ def run_archive(
                 f"{run.earlier_interrupted} earlier run(s) had been interrupted; doing what they left undone"
             )
         store, run_id = run.store, run.run_id
-        report = RunReport(run_id=run_id)
+        report = RunReport(run_id=run_id, strict_exit=strict_exit)
         try:
-            reading = {"limits": limits, "follow_links_outside": follow_links_outside}
+            reading = {"limits": limits, "follow_links_outside": follow_links_outside, "exclude": exclude}
             document_ids = _read_archive(
                 store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading
             )
@@ -287,14 +306,22 @@ def run_archive(
             if not stop.reason():
                 active = _resolve_run_time_methods(store, run_id, active, config, progress)
             if stop.reason():
-                # Each file not read yet holds at least one document still to do.
-                pending = len(_pending(store, document_ids, active, report))
-                report.documents_remaining = pending + report.files_unread
+                report.documents_remaining = documents_remaining(
+                    _pending(store, document_ids, active, report),
+                    report.unread,
+                    store.documents.current() if report.unread else (),
+                    store.failures.failed_files() if report.unread else set(),
+                    lambda ids: _pending(store, ids, active),
+                )
             else:
                 _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
             report.stop_reason = stop.reason()
             if report.stop_reason:
-                unread = f" (at least: {report.files_unread} files not read yet)" if report.files_unread else ""
+                unread = (
+                    f" (with those of {report.files_unread} files not read yet, as the store last held them)"
+                    if report.files_unread
+                    else ""
+                )
                 progress.message(
                     f"{report.stop_reason}: {report.documents_remaining} documents remain to summarize{unread}; "
                     "rerun the same command to finish them"
@@ -325,9 +352,11 @@ def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: d
     return resolved
 
 
-def _pending(store: Store, document_ids: list[int], active: list, report: RunReport) -> dict[int, set[str]]:
+def _pending(
+    store: Store, document_ids: list[int], active: list, report: RunReport | None = None
+) -> dict[int, set[str]]:
     """Method names still to run, per document (one query per method); counts the
-    summaries already stored as skipped."""
+    summaries already stored as skipped in ``report``, when given."""
     done = {
         method.name: store.documents_with_summary(method.name, param_hash(method.name, method.get_params()))
         for method in active
@@ -340,7 +369,8 @@ def _pending(store: Store, document_ids: list[int], active: list, report: RunRep
             if document_id not in done[method.name]
             and document_id not in getattr(method, "exclude_document_ids", ())
         }
-        report.summaries_skipped += len(active) - len(names)
+        if report is not None:
+            report.summaries_skipped += len(active) - len(names)
         if names:
             todo[document_id] = names
     return todo
@@ -349,6 +379,7 @@ def _pending(store: Store, document_ids: list[int], active: list, report: RunRep
 def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
     """Pass 2: fit archive statistics, then compute and store what is missing."""
     todo = _pending(store, document_ids, active, report)
+    failures = FailureSorter(store, run_id, report, progress)
     if not todo:
         progress.message("nothing to summarize: every summary is already stored")
         return
@@ -374,7 +405,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     )
     with make_executor(per_document, workers=workers, scheduler=scheduler) as executor:
         for document_id, document, outcomes in executor.map_documents(jobs, stop):
-            _store_outcomes(store, run_id, document_id, document, outcomes, report, progress)
+            _store_outcomes(store, run_id, document_id, document, outcomes, report, failures)
             finished(document_id, {name for name, _ in outcomes})
     for method in batched:
         wanted = [d for d, names in todo.items() if method.name in names]
@@ -385,21 +416,19 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             chunk = wanted[start : start + size]
             loaded = [store.documents.load(document_id) for document_id in chunk]
             for document_id, (document, _), outcome in zip(chunk, loaded, method.summarize_many(loaded)):
-                _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, progress)
+                _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, failures)
                 finished(document_id, {method.name})
     progress.close()
     report.documents_remaining = len(todo)
 
 
-def _store_outcomes(store, run_id, document_id, document, outcomes, report, progress) -> None:
+def _store_outcomes(store, run_id, document_id, document, outcomes, report, failures: FailureSorter) -> None:
     """One transaction for all of a document's new summaries (and failures)."""
     with store.transaction():
         for method_name, outcome in outcomes:
             if isinstance(outcome, Exception):
                 reason = f"{method_name} failed: {outcome}"
-                store.runs.record_problem(run_id, document.record_key, "error", reason)
-                report.failed_summaries.append(f"{document.record_key}: {reason}")
-                progress.error(f"{document.record_key}: {reason}")
+                failures.document_failed(document.record_key, document.sha256, reason, method_name)
                 continue
             store.add_summary(document_id, run_id, outcome)
             report.summaries_added += 1

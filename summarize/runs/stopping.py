@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import signal
 import time
+from collections.abc import Callable
 from datetime import datetime, timedelta
 
 
@@ -24,13 +25,20 @@ class StopConditions:
     A deadline comes from ``until`` (local wall-clock time) and/or ``max_minutes``
     (from construction); the earlier wins. While installed (``with``), SIGINT and
     SIGTERM only set a flag, so the document in flight is finished and stored; a
-    second SIGINT interrupts at once.
+    second SIGINT interrupts at once. ``clock`` gives the seconds the budget is
+    measured in (``time.monotonic``; tests pass a clock of their own).
     """
 
-    def __init__(self, until: datetime | None = None, max_minutes: float | None = None):
+    def __init__(
+        self,
+        until: datetime | None = None,
+        max_minutes: float | None = None,
+        clock: Callable[[], float] = time.monotonic,
+    ):
         self.until = until
         self.max_minutes = max_minutes
-        self._started = time.monotonic()
+        self.clock = clock
+        self._started = clock()
         self._wall_started = datetime.now()
         self.signal_name: str | None = None
         self._previous: dict = {}
@@ -47,7 +55,7 @@ class StopConditions:
         """Why to stop now, or None to go on."""
         if self.signal_name:
             return f"stopped by {self.signal_name}"
-        if self.max_minutes is not None and time.monotonic() - self._started >= self.max_minutes * 60:
+        if self.max_minutes is not None and self.clock() - self._started >= self.max_minutes * 60:
             return f"time budget of {self.max_minutes:g} minutes used"
         if self.until is not None and datetime.now() >= self.until:
             return f"reached --until {self.until:%H:%M}"
