@@ -1,6 +1,6 @@
 """Run every benchmark in turn (slow: tens of minutes on two cores) and print its tables.
 
-Each one also runs alone: ``python -m bench.operations``, ``bench.seq2seq_speed``,
+Each one also runs alone: ``python -m bench.operations``, ``bench.splitting``, ``bench.seq2seq_speed``,
 ``bench.aclsum_eval``, ``bench.learned_aclsum``, ``bench.site_latency``, ``bench.aclsum_aspects``,
 ``bench.hostile_inputs``.
 """
@@ -9,7 +9,7 @@ import importlib
 import sys
 
 BENCHMARKS = (
-    "operations", "seq2seq_speed", "aclsum_eval", "learned_aclsum", "site_latency", "aclsum_aspects", "hostile_inputs",
+    "operations", "splitting", "seq2seq_speed", "aclsum_eval", "learned_aclsum", "site_latency", "aclsum_aspects", "hostile_inputs",
 )
 
 for name in BENCHMARKS:

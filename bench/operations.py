@@ -97,7 +97,7 @@ def bench_floor(workdir: Path, archive: Path) -> str:
     pipeline, documents = timed_run(archive, workdir / "floor.sqlite", tries=TRIES)
     rows = [
         ["floor: read", f"{parts['read']:.2f}", ""],
-        ["floor: split (pySBD)", f"{parts['split']:.2f}", ""],
+        ["floor: split into sentences", f"{parts['split']:.2f}", ""],
         ["floor: TF-IDF fit + vectorize sentences", f"{parts['tfidf']:.2f}", ""],
         ["**floor total**", f"{floor:.2f}", "1.00"],
         ["**whole run** (3 methods, stored)", f"{pipeline:.2f}", f"{pipeline / floor:.2f}"],

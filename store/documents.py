@@ -73,12 +73,14 @@ class DocumentReads:
             size=row["size"],
             title=row["title"],
             date=row["date"],
+            date_source=row.get("date_source"),
+            modified=row.get("modified"),
             encoding=row["encoding"],
             reference_summary=reference.text if reference else None,
             reference_source=reference.source if reference else None,
             metadata=json.loads(row["metadata"]) if row["metadata"] else {},
         )
-        segmentation = self.segmentation(document_id)
+        segmentation = self.segmentation(document_id).with_asides(document.aside_spans())
         document.headings = [
             span for span, heading in zip(segmentation.sentences, segmentation.sentence_is_heading) if heading
         ]

@@ -28,6 +28,7 @@ class ExportRow:
     path: str
     title: str | None
     date: str | None
+    date_source: str | None
     format: str
     status: str
     method: str
@@ -88,7 +89,7 @@ class ExportReads:
         documents = {
             row[0]: row
             for row in self.db.execute(
-                "select id, record_key, path, title, date, format, status, text from documents "
+                "select id, record_key, path, title, date, date_source, format, status, text from documents "
                 "where id in (select s.document_id from summaries s join documents d on d.id = s.document_id "
                 f"where {where})",
                 params,
@@ -96,11 +97,11 @@ class ExportReads:
         }
         references = self.references.of_documents(status_not="replaced")
         details = load_summary_details(
-            self.db, where, params, lambda document_id: documents[document_id][7], order="d.record_key, s.method, s.id"
+            self.db, where, params, lambda document_id: documents[document_id][8], order="d.record_key, s.method, s.id"
         )
         rows = []
         for detail in details:
-            document_id, record_key, path, title, date, fmt, status, _text = documents[detail.document_id]
+            document_id, record_key, path, title, date, date_source, fmt, status, _text = documents[detail.document_id]
             reference = references.get(document_id)
             rows.append(
                 ExportRow(
@@ -109,6 +110,7 @@ class ExportReads:
                     path=path,
                     title=title,
                     date=date,
+                    date_source=date_source,
                     format=fmt,
                     status=status,
                     method=detail.method,

@@ -8,6 +8,7 @@ import os
 
 import sqlite_utils
 
+from store.reference_history import reference_history
 from store.references import References
 from store.search import ParsedQuery
 from store.search_queries import (
@@ -63,20 +64,57 @@ class Queries:
             [reference, absolute, reference, absolute],
         ).fetchone()
         if not row:
-            raise DocumentNotFound(f"no document {reference!r} in the store (give an id, record key or path)")
+            row = self._by_record_id(reference)
+        if not row:
+            raise DocumentNotFound(
+                f"no document {reference!r} in the store (give an id, record key, path or JSON record id)"
+            )
         return self.db["documents"].get(row[0])
+
+    def _by_record_id(self, record_id: str) -> tuple | None:
+        """The current version of the JSON/JSONL record whose id (the part of its
+        record key after '#') is ``record_id``; an id found in several files is
+        ambiguous."""
+        rows = self.db.execute(
+            "select id, record_key from documents where substr(record_key, -length(?) - 1) = '#' || ? "
+            "order by status = 'replaced', id desc",
+            [record_id, record_id],
+        ).fetchall()
+        keys = sorted({key for _, key in rows})
+        if len(keys) > 1:
+            raise DocumentNotFound(
+                f"record id {record_id!r} is in several files: {', '.join(keys)}; give the record key"
+            )
+        return rows[0] if rows else None
+
+    def file_records(self, path: str) -> list[dict]:
+        """The records stored from one JSON/JSONL file (current versions), in file
+        order; empty when ``path`` is not such a file."""
+        absolute = os.path.abspath(path)
+        rows = self.db.execute(
+            "select id, record_key, title, date, status from documents "
+            "where path in (?, ?) and record_key != path and status != 'replaced' order by id",
+            [path, absolute],
+        ).fetchall()
+        return [
+            {"id": row[0], "record_key": row[1], "record_id": row[1].rsplit("#", 1)[-1], "title": row[2],
+             "date": row[3], "status": row[4]}
+            for row in rows
+        ]
 
     def show(self, reference: str, method: str | None = None) -> dict:
         """Everything stored about one document, as the JSON record ``show`` prints."""
         document = self.resolve(reference)
-        stored_reference = self.references.of(document["id"])
+        # A duplicate is not summarized: its canonical copy's summaries stand for it.
+        canonical = self.db["documents"].get(document["duplicate_of"]) if document["duplicate_of"] else None
+        summarized = canonical or document
         where = "s.document_id = ?"
-        params: list = [document["id"]]
+        params: list = [summarized["id"]]
         if method:
             where += " and s.method = ?"
             params.append(method)
         summaries = load_summary_details(
-            self.db, where, params, lambda _document_id: document["text"], order="s.method, s.id"
+            self.db, where, params, lambda _document_id: summarized["text"], order="s.method, s.id"
         )
         versions = [
             {"id": row[0], "sha256": row[1], "status": row[2], "first_run": row[3]}
@@ -89,8 +127,11 @@ class Queries:
             "document": {k: v for k, v in document.items() if k not in ("text", "metadata")}
             | {"metadata": json.loads(document["metadata"] or "{}"), "characters": len(document["text"])},
             "text": document["text"],
-            "reference_summary": (
-                {"text": stored_reference.text, "source": stored_reference.source} if stored_reference else None
+            "reference_summary": self.references.current(summarized["id"]),
+            "reference_history": reference_history(self.db, summarized["id"]),
+            "canonical_copy": (
+                {"id": canonical["id"], "record_key": canonical["record_key"], "title": canonical["title"]}
+                if canonical else None
             ),
             "summaries": [summary.as_dict() for summary in summaries],
             "versions": versions,

@@ -7,6 +7,7 @@ downstream refers to it by character spans.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import json
 from dataclasses import dataclass, field
@@ -38,7 +39,11 @@ class Document:
     the file, has already been cut out of it. ``record_key`` identifies the unit
     across runs (the path, plus ``#N`` for the N-th record of a JSON file);
     ``sha256`` is the hash of the raw bytes of the file (or of the canonical JSON of
-    the record), so identical content under two names is recognised.
+    the record), so identical content under two names is recognised. ``date_source``
+    says where ``date`` was found: 'document text', 'front matter', 'header', 'e-mail',
+    'record field' or 'file metadata' (a DOCX or PDF property, which may be the day
+    the file was made rather than the report's date). ``modified`` is the file's
+    modification time, which breaks ties between identical copies.
     """
 
     record_key: str
@@ -54,6 +59,12 @@ class Document:
     reference_source: str | None = None
     headings: list[Span] = field(default_factory=list)
     metadata: dict = field(default_factory=dict)
+    date_source: str | None = None
+    modified: str | None = None
+
+    def aside_spans(self) -> list[Span]:
+        """Spans of the marked parts that are not the message (``metadata['email_parts']``)."""
+        return [Span(part["start"], part["end"]) for part in self.metadata.get("email_parts", [])]
 
 
 @dataclass(frozen=True)
@@ -62,13 +73,24 @@ class Segmentation:
 
     ``sentence_paragraph[i]`` is the index of the paragraph holding sentence ``i``;
     ``sentence_is_heading[i]`` tells whether that sentence is a heading line, which
-    methods may skip.
+    methods may skip; ``sentence_is_aside[i]`` whether it lies in a marked part that
+    is not the document's message (an e-mail's greeting, signature, quoted earlier
+    message), which no method selects. Empty means no sentence is an aside.
     """
 
     paragraphs: tuple[Span, ...]
     sentences: tuple[Span, ...]
     sentence_paragraph: tuple[int, ...]
     sentence_is_heading: tuple[bool, ...]
+    sentence_is_aside: tuple[bool, ...] = ()
+
+    def is_aside(self, index: int) -> bool:
+        return bool(self.sentence_is_aside) and self.sentence_is_aside[index]
+
+    def with_asides(self, parts: list[Span]) -> Segmentation:
+        """The same segmentation with every sentence inside one of ``parts`` an aside."""
+        flags = tuple(any(p.start <= s.start and s.end <= p.end for p in parts) for s in self.sentences)
+        return dataclasses.replace(self, sentence_is_aside=flags if any(flags) else ())
 
     def sentence_texts(self, text: str) -> list[str]:
         return [span.slice(text) for span in self.sentences]

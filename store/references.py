@@ -35,6 +35,14 @@ class References:
         ).fetchone()
         return Reference(*row) if row else None
 
+    def current(self, document_id: int) -> dict | None:
+        """The current reference as ``show`` prints it: text, source and since when it
+        is current (its history is in :mod:`store.reference_history`)."""
+        row = self.db.execute(
+            "select text, source, since from reference_summaries where document_id = ?", [document_id]
+        ).fetchone()
+        return {"text": row[0], "source": row[1], "since": row[2]} if row else None
+
     def exists(self, document_id: int) -> bool:
         return self.of(document_id) is not None
 

@@ -4,7 +4,7 @@ One file holds everything, readable with any SQLite tool:
 
     documents            one row per (record_key, content hash); text held once
     document_sentences   sentence spans of each document (provenance, highlighting)
-    reference_summaries  the human summary found for a document, and where
+    reference_summaries  the current human summary of a document, where and since when
     runs                 one row per run: configuration, library versions, host, outcome
     ingest_problems      files that could not be read (or were skipped), per run, with
                          a fingerprint of what failed (version 5): known failures
@@ -25,6 +25,8 @@ One file holds everything, readable with any SQLite tool:
     digest_sentences     each digest sentence, in order
     digest_citations     the document span(s) behind each digest sentence (merged
                          near-duplicates keep every citation)
+    reference_history    earlier reference summaries of a document (version 6),
+    superseded_scores    and the scores computed against them
 
 Full-text search (FTS5) covers document titles, record keys and text (version 3)
 and summary texts.
@@ -41,7 +43,7 @@ import sqlite_utils
 from store.errors import StoreNotReadable, StoreReadOnly, StoreTooNew, StoreUnusable
 from store.health import check_store_file, check_tables, store_error
 
-SCHEMA_VERSION = 5
+SCHEMA_VERSION = 6
 
 
 def _create_v1(db: sqlite_utils.Database) -> None:
@@ -290,7 +292,44 @@ def _add_failure_fingerprints(db: sqlite_utils.Database) -> None:
     db["documents"].create_index(["path"])
 
 
-MIGRATIONS = {1: _create_v1, 2: _create_v2, 3: _create_v3, 4: _create_aspects_and_digests, 5: _add_failure_fingerprints}
+
+
+def _add_reference_history_and_date_sources(db: sqlite_utils.Database) -> None:
+    """Version 6. References that change on a rerun keep their past (``store/reference_history.py``):
+    ``reference_summaries.since``, ``reference_history`` (earlier references) and
+    ``superseded_scores`` (scores computed against them). ``documents.date_source``
+    says where a document's date was found, ``documents.modified`` the file's
+    modification time (``store/duplicates.py``). Existing references are current since
+    their document was first stored."""
+    db.execute("alter table documents add column date_source text")
+    db.execute("alter table documents add column modified text")
+    db.execute("alter table reference_summaries add column since text")
+    db.execute(
+        "update reference_summaries set since = (select r.started from documents d join runs r "
+        "on r.id = d.first_run where d.id = reference_summaries.document_id)"
+    )
+    db["reference_history"].create(
+        {"id": int, "document_id": int, "text": str, "source": str, "since": str, "until": str, "replaced_in_run": int},
+        pk="id",
+        foreign_keys=[("document_id", "documents", "id"), ("replaced_in_run", "runs", "id")],
+    )
+    db["reference_history"].create_index(["document_id"])
+    db["superseded_scores"].create(
+        {"history_id": int, "summary_id": int, "metric": str, "precision": float, "recall": float, "f1": float,
+         "created": str},
+        pk=("history_id", "summary_id", "metric"),
+        foreign_keys=[("history_id", "reference_history", "id"), ("summary_id", "summaries", "id")],
+    )
+
+
+MIGRATIONS = {
+    1: _create_v1,
+    2: _create_v2,
+    3: _create_v3,
+    4: _create_aspects_and_digests,
+    5: _add_failure_fingerprints,
+    6: _add_reference_history_and_date_sources,
+}
 
 
 def open_database(path: str, read_only: bool = False) -> sqlite_utils.Database:

@@ -13,7 +13,9 @@ import json
 
 import sqlite_utils
 
+from store.duplicates import canonical_rank, make_canonical, still_active, stored_rank
 from store.records import Document, Segmentation, Summary
+from store.reference_history import replace_reference
 from store.references import References
 from store.runs import now
 
@@ -46,7 +48,9 @@ class StoreWrites:
 
         Returns ``(document_id, added, status)``. A record whose content changed gets a new row;
         the earlier version stays, marked ``replaced``, with its summaries. Content
-        already stored under another record key is marked ``duplicate`` of it. The
+        already stored under another record key is a ``duplicate``: of the stored
+        copy, or the stored copy becomes a duplicate of this one when this one ranks
+        first (``store/duplicates.py``). The
         stored version matching the file becomes (or stays) the record's current one:
         a record seen again after being marked ``missing`` is ``active`` again, and a
         file changed back to an earlier content revives that earlier version.
@@ -71,7 +75,11 @@ class StoreWrites:
                 [document.sha256, document.record_key],
             ).fetchone()
             self._retire_versions(document.record_key)
-            status = "duplicate" if twin else "active"
+            # The canonical copy does not depend on which copy the walk met first.
+            replaces_twin = bool(twin) and canonical_rank(
+                document.record_key, document.path, document.modified
+            ) < stored_rank(self.db, twin[0])
+            status = "duplicate" if twin and not replaces_twin else "active"
             document_id = self._insert_row(
                 "documents",
                 {
@@ -81,12 +89,14 @@ class StoreWrites:
                     "format": document.format,
                     "title": document.title,
                     "date": document.date,
+                    "date_source": document.date_source,
+                    "modified": document.modified,
                     "size": document.size,
                     "encoding": document.encoding,
                     "text": document.text,
                     "metadata": json.dumps(document.metadata, sort_keys=True, default=str),
                     "status": status,
-                    "duplicate_of": twin[0] if twin else None,
+                    "duplicate_of": twin[0] if twin and not replaces_twin else None,
                     "first_run": run_id,
                     "last_run": run_id,
                 }
@@ -104,19 +114,46 @@ class StoreWrites:
             )
             if document.reference_summary:
                 self.db["reference_summaries"].insert(
-                    {"document_id": document_id, "text": document.reference_summary, "source": document.reference_source}
+                    {
+                        "document_id": document_id,
+                        "text": document.reference_summary,
+                        "source": document.reference_source,
+                        "since": now(),
+                    }
                 )
                 # Identical content: a reference found under the second name serves the
                 # first, which is the one summarized and scored.
-                if twin and not self.references.exists(twin[0]):
+                if twin and not replaces_twin and not self.references.exists(twin[0]):
                     self.db["reference_summaries"].insert(
                         {
                             "document_id": twin[0],
                             "text": document.reference_summary,
                             "source": f"{document.reference_source} (found with {document.record_key})",
+                            "since": now(),
                         }
                     )
+            if replaces_twin:
+                make_canonical(self.db, self.references, document_id, twin[0])
         return document_id, True, status
+
+    def still_active(self, document_ids: list[int]) -> list[int]:
+        return still_active(self.db, document_ids)
+
+    def refresh_reference(self, document_id: int, document: Document, run_id: int) -> str | None:
+        """Bring a stored document's current reference summary in line with what was
+        found on this read (a sidecar added, edited or removed beside an unchanged
+        file); the old one and its scores are kept as history (``store/reference_history.py``).
+        Returns 'new', 'edited', 'removed' or None (unchanged)."""
+        with self.transaction():
+            return replace_reference(
+                self.db,
+                self.references,
+                document_id,
+                document.reference_summary,
+                document.reference_source,
+                run_id,
+                now(),
+            )
 
     def _retire_versions(self, record_key: str) -> None:
         """The record's current version (active, or missing from disk) is superseded."""

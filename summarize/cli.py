@@ -30,6 +30,7 @@ from summarize.output.export import export as export_summaries
 from summarize.reading.exclusions import BadExcludePattern, check_patterns
 from summarize.reading.ingest import ReadLimits, RecordFields
 from summarize.reading.limits import MIB
+from summarize.reading.sentences import SentenceSplitter
 from summarize.runs.jobfile import load_job
 from summarize.runs.progress import Progress, configure_log_file
 from summarize.runs.progress import log as run_log
@@ -189,6 +190,9 @@ def _read_limits(options: dict) -> ReadLimits:
                    ".summarize-exclude patterns): 'drafts', '*.tmp', 'scans/2019', '**/raw/'.")
 @click.option("--strict-exit", is_flag=True, default=None,
               help="Exit 3 on any failure, also on files that failed before with unchanged content.")
+@click.option("--abbreviation", multiple=True, metavar="ABBR",
+              help="An abbreviation that never ends a sentence before a number, a lower-case word or a name "
+                   "(e.g. 'Harb.'); repeatable. Added to the built-in report abbreviations.")
 @click.option("--model", default=None, metavar="DIR",
               help="seq2seq: checkpoint directory, or a repository id already in the local Hugging Face cache.")
 @click.option("--allow-pickle-weights", is_flag=True,
@@ -205,7 +209,7 @@ def _read_limits(options: dict) -> ReadLimits:
 @_read_limit_options
 @click.pass_context
 def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
-        text_field, title_field, summary_field, date_field, id_field, as_json, exclude, strict_exit, model,
+        text_field, title_field, summary_field, date_field, id_field, as_json, exclude, strict_exit, abbreviation, model,
         allow_pickle_weights, seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode,
         **read_options):
     """Read every document under PATHS, summarize it with each method, store it.
@@ -259,6 +263,7 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
             follow_links_outside=read_options["follow_links_outside"],
             exclude=exclude,
             strict_exit=bool(strict_exit),
+            splitter=SentenceSplitter(abbreviations=tuple(abbreviation)),
         )
     except (ValueError, StoreLocked, RuntimeError, ModelLoadError) as error:
         run_log.error(str(error))
@@ -396,6 +401,18 @@ def _score_text(value: float | None) -> str:
     return f"{value:.3f}" if isinstance(value, float) and math.isfinite(value) else "-"
 
 
+def _print_file_records(path: str, records: list[dict], as_json: bool) -> None:
+    """A JSON/JSONL file holding several records: list them, to be shown one by one."""
+    if as_json:
+        click.echo(strict_json.dumps({"file": path, "records": records}, indent=2, ensure_ascii=False))
+        return
+    click.echo(f"{printable(path)} holds {len(records)} records; show one by its id or record id:")
+    for record in records:
+        date = f"  {printable(record['date'])}" if record["date"] else ""
+        title = printable(record["title"] or "(untitled)")
+        click.echo(f"  #{record['id']}  {printable(record['record_id'])}  {title}{date}  [{record['status']}]")
+
+
 def _print_document(record: dict, highlight: bool) -> None:
     """Everything taken from a document passes through ``printable`` (one line) or
     ``terminal_text`` (the source text): a document cannot send the terminal control
@@ -403,15 +420,29 @@ def _print_document(record: dict, highlight: bool) -> None:
     doc = {key: printable(value) if isinstance(value, str) else value for key, value in record["document"].items()}
     click.echo(f"#{doc['id']}  {doc['title'] or '(untitled)'}")
     click.echo(f"  source   {doc['path']}  ({doc['format']}, {doc['size']} bytes, {doc['characters']} characters)")
-    click.echo(f"  record   {doc['record_key']}   status {doc['status']}   date {doc['date'] or '-'}")
+    date = f"{doc['date']} (from {doc['date_source']})" if doc["date"] and doc.get("date_source") else doc["date"] or "-"
+    click.echo(f"  record   {doc['record_key']}   status {doc['status']}   date {date}")
     click.echo(f"  sha256   {doc['sha256']}")
     if len(record["versions"]) > 1:
         versions = ", ".join(f"#{v['id']} {v['status']}" for v in record["versions"])
         click.echo(f"  versions {versions}")
+    canonical = record.get("canonical_copy")
+    if canonical:
+        click.echo(
+            f"  duplicate of #{canonical['id']} {printable(canonical['title'] or '')} "
+            f"[{printable(canonical['record_key'])}]: "
+            "its reference and summaries follow"
+        )
     reference = record["reference_summary"]
     if reference:
-        click.echo(f"\nReference summary ({reference['source']}):")
+        since = f", current since {reference['since']}" if reference.get("since") else ""
+        click.echo(f"\nReference summary ({reference['source']}{since}):")
         click.echo(textwrap.indent(textwrap.fill(printable(reference["text"]), 88), "  "))
+    for earlier in record.get("reference_history", []):
+        click.echo(
+            f"  earlier reference ({printable(earlier['source'] or '')}, {earlier['since'] or '?'} to {earlier['until']}; "
+            f"{earlier['scores']} scores kept against it)"
+        )
     for summary in record["summaries"]:
         scores = "  ".join(f"{m} F1 {_score_text(v['f1'])}" for m, v in sorted(summary["scores"].items()))
         click.echo(f"\n{summary['method']}  (parameters {summary['param_hash']}, run {summary['run_id']}){'  ' + scores if scores else ''}")
@@ -445,9 +476,14 @@ def _print_document(record: dict, highlight: bool) -> None:
 @click.option("--highlight", is_flag=True, help="Also print the source text with summary sentences marked.")
 @click.option("--json", "as_json", is_flag=True, help="Print the record as JSON.")
 def show(document, db_path, method, highlight, as_json):
-    """Show one DOCUMENT (id, record key or path): metadata, reference, summaries with
-    their source spans, flags and scores."""
+    """Show one DOCUMENT (id, record key, path or JSON record id): metadata, reference,
+    summaries with their source spans, flags and scores. A JSON/JSONL file with several
+    records lists them."""
     store = _open_existing(db_path)
+    records = store.queries.file_records(document)
+    if len(records) > 1:
+        _print_file_records(document, records, as_json)
+        return
     try:
         record = store.queries.show(document, method=method)
     except DocumentNotFound as error:

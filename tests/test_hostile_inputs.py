@@ -132,8 +132,6 @@ CASES: list[tuple[str, Maker, list[str], str, str]] = [
      "self.md", "exceeds the limit"),
     ("metadata-too-large", lambda a: _write(a / "meta.md", "---\nnote: " + "x" * 70_000 + "\n---\n\nBody. Text here.\n"), [],
      "meta.md", "metadata exceeds the limit of 64 KB (raise it with --max-metadata-kb)"),
-    ("yaml-invalid", lambda a: _write(a / "tabs.md", "---\ntitle: [unclosed\n---\n\nBody. Text.\n"), [],
-     "tabs.md", "front matter is not valid YAML"),
     ("jsonl-deep-nesting", lambda a: _write(a / "deep.jsonl", '{"text": "Fine record. Kept."}\n' + "[" * 100_000 + "\n"), [],
      "deep.jsonl#line 2", "nested too deeply"),
     ("jsonl-huge-integer", lambda a: _write(a / "digits.jsonl", '{"text": "Fine record. Kept."}\n{"n": ' + "9" * 5000 + "}\n"), [],

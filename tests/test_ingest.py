@@ -81,7 +81,7 @@ def test_plain_text_keeps_paragraphs_and_reads_title_and_date_lines(tmp_path):
     document = only(path)
     assert document.text == (
         "Title: Drainage survey\nDate: 12 May 2023\n\n"
-        "The culverts were walked in April.\nTwo were blocked.\n\nFINDINGS\n\nSilt was found."
+        "The culverts were walked in April. Two were blocked.\n\nFINDINGS\n\nSilt was found."
     )
     assert document.title == "Drainage survey"
     assert document.date == "2023-05-12"
@@ -167,7 +167,7 @@ def test_html_keeps_content_and_drops_furniture(tmp_path):
     document = only(write(tmp_path / "wall.html", HTML_PAGE))
     assert document.text == (
         "Harbour Wall\n\nThe wall was inspected at low tide.\n\nDamage\n\n"
-        "- cracked coping\n- loose blocks\n\nSection | Grade\nNorth | C"
+        "- cracked coping\n- loose blocks\n\nSection: North; Grade: C"
     )
     assert heading_texts(document) == ["Harbour Wall", "Damage"]
     assert document.title == "Harbour Wall Report"
@@ -312,7 +312,7 @@ def test_docx_paragraphs_headings_lists_and_tables_in_order(tmp_path):
     assert document.text == (
         "Culvert Survey\n\nThe culvert under the lane is sound.\n\nActions\n\n"
         "- clear the inlet\n- inspect the outlet\n1. order grating\n2. fit grating\n\n"
-        "Item | Cost\nDredging | 400\n\nWorks start in spring."
+        "Item: Dredging; Cost: 400\n\nWorks start in spring."
     )
     assert heading_texts(document) == ["Culvert Survey", "Actions"]
     assert document.title == "Culvert Review"

@@ -11,7 +11,7 @@ import pytest
 from fpdf import FPDF
 
 from store.records import Document
-from summarize.reading.ingest import UnreadableFile, iter_archive, read_file
+from summarize.reading.ingest import IngestProblem, iter_archive, read_file
 
 
 def write(path: Path, content: str | bytes) -> Path:
@@ -91,11 +91,13 @@ def test_front_matter_gives_title_date_summary_and_is_removed(tmp_path):
     assert document.metadata["front_matter"] == {"owner": "Team B"}
 
 
-def test_invalid_front_matter_is_named(tmp_path):
+def test_invalid_front_matter_is_named_and_the_body_is_read(tmp_path):
     path = write(tmp_path / "bad.txt", "---\ntitle: [unclosed\n---\nBody.\n")
-    with pytest.raises(UnreadableFile) as caught:
-        read_file(path)
-    assert caught.value.reason.startswith("front matter is not valid YAML (line ")
+    (document,) = read_file(path)
+    assert document.text == "Body."
+    (warning,) = [item for item in iter_archive([path]) if isinstance(item, IngestProblem)]
+    assert warning.kind == "warning"
+    assert warning.reason.startswith("front matter is not valid YAML (line ")
 
 
 def test_leading_rule_that_is_not_front_matter_is_kept(tmp_path):

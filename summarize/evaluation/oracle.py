@@ -69,7 +69,7 @@ class OracleSummarizer:
         started = time.perf_counter()
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(s) for s in texts]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         metric = RougeMetric(metrics=("rouge1", "rouge2"), stemming=True)
         search = _OverlapSearch([metric.tokens(t) for t in texts], metric.tokens(document.reference_summary))
         limit = word_limit(self.budget, words)

@@ -37,8 +37,9 @@ class RandomSummarizer:
 
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
-        words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        texts = segmentation.sentence_texts(document.text)
+        words = [count_words(s) for s in texts]
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         text_key = int.from_bytes(hashlib.sha256(document.text.encode("utf-8")).digest()[:8], "big")
         order = np.random.default_rng([self.seed, text_key]).permutation(len(candidates))
         ranked = [candidates[k] for k in order]

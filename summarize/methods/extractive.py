@@ -3,13 +3,15 @@
 All methods share one shape (as scikit-learn estimators do): the constructor only
 stores parameters; ``fit`` learns archive-wide statistics where a method needs them;
 ``summarize(document, segmentation)`` returns a :class:`Summary` whose sentences are in
-document order, each with its source span and the score that ranked it. Heading lines
-and fragments shorter than ``min_words`` are never selected. Ties are broken by
+document order, each with its source span and the score that ranked it. Heading lines,
+marked asides (an e-mail's greeting or signature) and fragments shorter than
+``min_words`` are never selected, nor a sentence that reads the same as one before it. Ties are broken by
 document position, so every method is deterministic.
 """
 
 from __future__ import annotations
 
+import re
 import time
 from collections.abc import Iterable
 from dataclasses import dataclass, field
@@ -23,17 +25,36 @@ from summarize.methods.budget import Budget, count_words
 from summarize.methods.graph import pagerank, top_k_symmetric
 
 DEFAULT_BUDGET = Budget(sentences=3)
+_NON_WORD = re.compile(r"[^\w]+")
 
 
-def selectable_sentences(segmentation: Segmentation, words: list[int], min_words: int) -> list[int]:
-    """Indices of sentences a method may pick: not headings, at least ``min_words`` long."""
-    chosen = [
-        i
-        for i, heading in enumerate(segmentation.sentence_is_heading)
-        if not heading and words[i] >= min_words
-    ]
+def selectable_sentences(
+    segmentation: Segmentation, words: list[int], min_words: int, texts: list[str] | None = None
+) -> list[int]:
+    """Indices of sentences a method may pick: not headings, not asides (an e-mail's
+    greeting, signature, quoted message), at least ``min_words`` long, and, given
+    the sentence ``texts``, only the first of sentences that read the same
+    (:func:`sentence_key`), so no summary holds one sentence twice."""
+    allowed = [i for i in range(len(words)) if not segmentation.is_aside(i)]
+    chosen = [i for i in allowed if not segmentation.sentence_is_heading[i] and words[i] >= min_words]
     # A document made only of short lines still gets a summary.
-    return chosen or [i for i in range(len(words)) if words[i] > 0]
+    chosen = chosen or [i for i in allowed if words[i] > 0] or [i for i in range(len(words)) if words[i] > 0]
+    if texts is None:
+        return chosen
+    seen: set[str] = set()
+    distinct = []
+    for index in chosen:
+        key = sentence_key(texts[index])
+        if key not in seen:
+            seen.add(key)
+            distinct.append(index)
+    return distinct
+
+
+def sentence_key(sentence: str) -> str:
+    """A sentence with case, spacing and punctuation normalised away: two sentences
+    with the same key read the same."""
+    return " ".join(_NON_WORD.sub(" ", sentence.casefold()).split())
 
 
 def rank_by_score(scores: np.ndarray, candidates: list[int]) -> list[int]:
@@ -132,8 +153,9 @@ class LeadSummarizer:
 
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
-        words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        texts = segmentation.sentence_texts(document.text)
+        words = [count_words(s) for s in texts]
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         chosen = self.budget.select(candidates, words)
         # Score = 1 / (1 + rank): the position the baseline ranks by.
         scores = np.zeros(len(words))
@@ -195,8 +217,9 @@ class TfidfSummarizer:
 
     def summarize(self, document: Document, segmentation: Segmentation) -> Summary:
         started = time.perf_counter()
-        words = [count_words(s) for s in segmentation.sentence_texts(document.text)]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        texts = segmentation.sentence_texts(document.text)
+        words = [count_words(s) for s in texts]
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         scores, vectors = self.sentence_scores(document, segmentation)
         if self.mmr_lambda is None:
             ranked = rank_by_score(scores, candidates)
@@ -274,7 +297,7 @@ class TextRankSummarizer:
         started = time.perf_counter()
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(s) for s in texts]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         graph = self.similarity_graph(texts)
         scores = pagerank(graph, self.damping, self.tolerance, self.max_iterations)
         if self.mmr_lambda is None:

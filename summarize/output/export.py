@@ -35,7 +35,7 @@ from summarize.output.written import atomic_text_file, check_output_path
 
 FORMATS = ("csv", "jsonl", "md", "html")
 CSV_COLUMNS = (
-    "document_id", "record_key", "title", "date", "status", "format", "method", "budget", "settings",
+    "document_id", "record_key", "title", "date", "date_source", "status", "format", "method", "budget", "settings",
     "param_hash", "summary", "source_spans", "flags", "rouge_f1", "reference_summary", "reference_source",
     "caution",
 )
@@ -54,6 +54,14 @@ def spreadsheet_cell(value):
 
 def _labels(row: ExportRow) -> dict:
     return {"budget": budget_label(row.params), "settings": settings_text(row.params)}
+
+
+def date_label(row: ExportRow) -> str:
+    """A document's date, marked when it is only a file property (the day a DOCX or
+    PDF was made, which may not be the report's date)."""
+    if row.date_source == "file metadata":
+        return f"{row.date} (file metadata)"
+    return row.date or ""
 
 
 def _write_csv(rows: list[ExportRow], out) -> None:
@@ -86,7 +94,7 @@ def _write_markdown(rows: list[ExportRow], out) -> None:
         if row.document_id != current:
             current = row.document_id
             out.write(f"## {_markdown_cell(row.title or row.record_key)}\n\n")
-            out.write(f"`{_markdown_cell(row.record_key)}`" + (f" · {row.date}" if row.date else "") + "\n\n")
+            out.write(f"`{_markdown_cell(row.record_key)}`" + (f" · {date_label(row)}" if row.date else "") + "\n\n")
             if row.reference_summary:
                 out.write(f"*Reference ({_markdown_cell(row.reference_source)}):* {_markdown_cell(row.reference_summary)}\n\n")
         scores = ", ".join(f"{m} {v:.3f}" for m, v in sorted(row.rouge_f1.items()))
@@ -121,7 +129,7 @@ def _write_html(rows: list[ExportRow], out) -> None:
                 out.write("</article>")
             current = row.document_id
             out.write(f"<article><h2>{e(row.title or row.record_key)}</h2>")
-            out.write(f"<p class='meta'>{e(row.record_key)}{' · ' + e(row.date) if row.date else ''}</p>")
+            out.write(f"<p class='meta'>{e(row.record_key)}{' · ' + e(date_label(row)) if row.date else ''}</p>")
             if row.reference_summary:
                 out.write(f"<p class='ref'>Reference ({e(row.reference_source or '')}): {e(row.reference_summary)}</p>")
         out.write(f"<p class='method'>{e(row.method)}</p><ol>")

@@ -24,8 +24,9 @@ Conventions:
 * Title: the format's own (front matter, <title>, PDF or DOCX properties,
   e-mail subject, record field), else a 'Title:' line near the top, else the
   first heading that is not a numbered section ('1. Scope' names a section,
-  not the document), else the file name without suffix. Date: the format's own,
-  else a 'Date:' line near the top, else None.
+  not the document), else the file name without suffix. Date: the format's own
+  (front matter, e-mail Date header, HTML meta, record field), else a 'Date:' line
+  near the top, else a DOCX or PDF file property; ``Document.date_source`` says which.
 """
 
 from __future__ import annotations
@@ -34,12 +35,13 @@ import hashlib
 import json
 import os
 from collections.abc import Callable, Iterable, Iterator, Sequence
+from datetime import UTC, datetime
 from pathlib import Path
 
 from store.records import Document
 from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.limits import LimitExceeded, ReadLimits, current_limits, time_limit, using_limits
-from summarize.reading.readers.blocks import Extract, assemble
+from summarize.reading.readers.blocks import DATE_IN_FILE_METADATA, DATE_IN_TEXT, Extract, lay_out
 from summarize.reading.readers.docx import read_docx
 from summarize.reading.readers.errors import ReadError
 from summarize.reading.readers.headings import is_numbered_section
@@ -151,10 +153,11 @@ def read_file(
     path: str | Path, fields: RecordFields = RecordFields(), limits: ReadLimits = ReadLimits()
 ) -> list[Document]:
     """The documents in one file (one per record for JSON/JSONL). Raises
-    ``UnreadableFile`` when the file, its sidecar or any of its records is bad."""
+    ``UnreadableFile`` when the file, its sidecar or any of its records is bad;
+    warnings (a document read despite a fault) do not raise."""
     key = display_path(Path(path))
     items = _read(Path(path), fields, limits)
-    problems = [item for item in items if isinstance(item, IngestProblem)]
+    problems = [item for item in items if isinstance(item, IngestProblem) and item.kind != "warning"]
     if problems:
         more = f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""
         raise UnreadableFile(key, _problem_within(problems[0], key) + more)
@@ -214,6 +217,8 @@ def _read(
             extract = _FILE_READERS[file_format](raw)
             problems = _add_sidecar(path, extract, limits, walk)
             document = _document(extract, key, key, file_format, raw, fallback_title=display_path(path.stem))
+            document.modified = _modified(path)
+            problems += [IngestProblem(key, warning, "warning") for warning in extract.warnings]
     except ReadError as exc:
         raise UnreadableFile(key, str(exc)) from None
     except RecursionError:
@@ -226,6 +231,15 @@ def _read(
         # The path is not UTF-8: keep its exact bytes, so that the file can be found again.
         document.metadata["path_bytes"] = os.fsencode(path).hex()
     return [*problems, document]
+
+
+def _modified(path: Path) -> str | None:
+    """The file's modification time (UTC, ISO 8601): the last tie-breaker between
+    identical copies (``store/duplicates.py``)."""
+    try:
+        return datetime.fromtimestamp(path.stat().st_mtime, UTC).isoformat(timespec="seconds")
+    except OSError:
+        return None
 
 
 def _unsupported(path: Path) -> str:
@@ -254,6 +268,7 @@ def _record_documents(
     path: Path, key: str, raw: bytes, file_format: str, fields: RecordFields
 ) -> list[Document | IngestProblem]:
     items: list[Document | IngestProblem] = []
+    modified = _modified(path)
     for outcome in read_records(raw, line_oriented=file_format == "jsonl", fields=fields):
         record_path = f"{key}#{outcome.locator}"
         if outcome.extract is None:
@@ -261,6 +276,8 @@ def _record_documents(
             continue
         try:
             items.append(_record_document(path, key, outcome, file_format))
+            items[-1].modified = modified
+            items.extend(IngestProblem(record_path, warning, "warning") for warning in outcome.extract.warnings)
         except ReadError as exc:
             items.append(IngestProblem(record_path, str(exc), "error"))
     return items
@@ -287,13 +304,23 @@ def _document(extract: Extract, record_key: str, path: str, file_format: str, ra
             extract.reference_source = f"section:{leading.heading}"
         else:
             extract.metadata["leading_summary_section"] = {"heading": leading.heading, "text": leading.body}
-    text, headings = assemble(blocks)
+    layout = lay_out(blocks)
+    text, headings = layout.text, layout.headings
+    if layout.parts:
+        extract.metadata["email_parts"] = [
+            {"part": part, "start": span.start, "end": span.end} for part, span in layout.parts
+        ]
     if not text:
         raise ReadError("no text content")
     limits = current_limits()
     if len(json.dumps(extract.metadata, default=str).encode("utf-8")) > limits.max_metadata_bytes:
         raise LimitExceeded("metadata", "max_metadata_bytes", limits.max_metadata_bytes)
     preamble_title, preamble_date = preamble_fields(blocks)
+    date, date_source = extract.date, extract.date_source
+    # A 'Date:' line in the text says more than a file property (often the day the
+    # file was made or converted), and is used when the format gives no date.
+    if preamble_date and (date is None or date_source == DATE_IN_FILE_METADATA):
+        date, date_source = preamble_date, DATE_IN_TEXT
     title_heading = next(
         (span.slice(text) for span in headings if not is_numbered_section(span.slice(text))), None
     )
@@ -305,7 +332,8 @@ def _document(extract: Extract, record_key: str, path: str, file_format: str, ra
         sha256=hashlib.sha256(raw).hexdigest(),
         size=len(raw),
         title=extract.title or preamble_title or title_heading or fallback_title,
-        date=extract.date or preamble_date,
+        date=date,
+        date_source=date_source if date else None,
         encoding=extract.encoding,
         reference_summary=extract.reference_summary,
         reference_source=extract.reference_source,

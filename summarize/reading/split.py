@@ -1,35 +1,34 @@
 """Paragraph and sentence spans with character offsets into ``Document.text``.
 
 Paragraphs are blocks separated by blank lines (the readers' output contract). Inside
-a paragraph, heading lines and list items are units of their own, so they are never
-glued to the next sentence; each unit is then segmented with pySBD (Sadvilkar &
-Neumann 2020), a rule-based segmenter built around the "Golden Rules" for English
-sentence boundaries. Sentences are located in the text by a forward search, so their
-spans are exact even when the same sentence occurs twice.
+a paragraph, heading lines, list items and field lines are units of their own, so they
+are never glued to the next sentence, and a labelled table row is one sentence; each unit is then cut into sentences by a
+:class:`~summarize.reading.sentences.SentenceSplitter` (report abbreviations, pySBD
+underneath where its rules cannot decide). Spans are exact even when the same
+sentence occurs twice.
 """
 
 from __future__ import annotations
 
 import re
-from functools import lru_cache
-
-import pysbd
 
 from store.records import Document, Segmentation, Span
+from summarize.reading.sentences import SentenceSplitter
 
 _BLANK_LINE = re.compile(r"\n[ \t]*\n")
 # "Date of incident: Friday 17 January 2025": a labelled field line of a report's
 # header block, which stands alone like a list item.
 _FIELD_LINE = re.compile(r"^\s*[A-Z][\w/&()' -]{0,40}:\s+\S")
+# "Asset: Berth 5 fender; Condition: poor": a table row labelled by its headers
+# (summarize.reading.readers.layout), kept as one sentence.
+_TABLE_ROW = re.compile(r"[^;:\n]{1,60}: [^;\n]*(?:; [^;:\n]{1,60}: [^;\n]*)+")
 _LIST_ITEM = re.compile(r"^\s*(?:[-*•–]\s+|\(?\d{1,3}[.)]\s+|\(?[a-z][.)]\s+)")
 _NUMBERED_HEADING = re.compile(r"^\s*(?:\d{1,2}(?:\.\d{1,2})*\.?|[A-Z]\.|[IVX]{1,4}\.)\s+\S")
 _MAX_HEADING_WORDS = 12
 _MAX_NUMBERED_HEADING_WORDS = 7
 
 
-@lru_cache(maxsize=1)
-def _segmenter() -> pysbd.Segmenter:
-    return pysbd.Segmenter(language="en", clean=False)
+DEFAULT_SPLITTER = SentenceSplitter()
 
 
 def _looks_like_heading(line: str, standalone: bool) -> bool:
@@ -66,7 +65,7 @@ def _units(text: str, start: int, end: int) -> list[tuple[Span, bool]]:
         if not line.strip():
             continue
         # "2. Scope" is a numbered heading; "2. Replace the seals on pump 4 before May" an item.
-        is_item = bool(_FIELD_LINE.match(line)) or (
+        is_item = bool(_FIELD_LINE.match(line)) or bool(_TABLE_ROW.fullmatch(line.strip())) or (
             bool(_LIST_ITEM.match(line))
             and (not _NUMBERED_HEADING.match(line) or len(line.split()) > _MAX_NUMBERED_HEADING_WORDS)
         )
@@ -103,30 +102,14 @@ def _trimmed(text: str, start: int, end: int) -> Span | None:
     return Span(start, end) if end > start else None
 
 
-def sentence_spans(text: str, start: int = 0, end: int | None = None) -> list[Span]:
-    """Sentence spans of ``text[start:end]`` as segmented by pySBD, whitespace trimmed."""
-    end = len(text) if end is None else end
-    # Hard line wraps inside running prose are not boundaries; a same-length
-    # replacement keeps every offset valid.
-    flat = text[start:end].replace("\n", " ")
-    spans: list[Span] = []
-    cursor = 0
-    for piece in _segmenter().segment(flat):
-        core = piece.strip()
-        if not core:
-            continue
-        found = flat.find(core, cursor)
-        if found < 0:
-            # pySBD with clean=False returns substrings; if that ever changes, fail
-            # loudly rather than store a span that does not slice back to the sentence.
-            raise ValueError(f"sentence not found after offset {start + cursor}: {core[:60]!r}")
-        spans.append(Span(start + found, start + found + len(core)))
-        cursor = found + len(core)
-    return spans
+def sentence_spans(text: str, start: int = 0, end: int | None = None, splitter: SentenceSplitter | None = None) -> list[Span]:
+    """Sentence spans of ``text[start:end]`` (see :mod:`summarize.reading.sentences`), whitespace trimmed."""
+    return (splitter or DEFAULT_SPLITTER).spans(text, start, end)
 
 
-def split_document(document: Document | str) -> Segmentation:
-    """Segment a document (or a bare text) into paragraphs and sentences."""
+def split_document(document: Document | str, splitter: SentenceSplitter | None = None) -> Segmentation:
+    """Segment a document (or a bare text) into paragraphs and sentences; ``splitter``
+    defaults to :data:`DEFAULT_SPLITTER` (the report abbreviations, no additions)."""
     text = document if isinstance(document, str) else document.text
     heading_starts = set() if isinstance(document, str) else {h.start for h in document.headings}
     paragraphs: list[Span] = []
@@ -144,14 +127,16 @@ def split_document(document: Document | str) -> Segmentation:
         paragraphs.append(block)
         for unit, heading in _units(text, block.start, block.end):
             heading = heading or unit.start in heading_starts
-            unit_sentences = [unit] if heading else sentence_spans(text, unit.start, unit.end)
+            whole = heading or _TABLE_ROW.fullmatch(text, unit.start, unit.end)
+            unit_sentences = [unit] if whole else sentence_spans(text, unit.start, unit.end, splitter)
             for span in unit_sentences:
                 sentences.append(span)
                 owner.append(paragraph_index)
                 is_heading.append(heading)
-    return Segmentation(
+    segmentation = Segmentation(
         paragraphs=tuple(paragraphs),
         sentences=tuple(sentences),
         sentence_paragraph=tuple(owner),
         sentence_is_heading=tuple(is_heading),
     )
+    return segmentation if isinstance(document, str) else segmentation.with_asides(document.aside_spans())

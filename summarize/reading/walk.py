@@ -41,9 +41,11 @@ _SPECIAL_KINDS = (
 
 @dataclass(frozen=True)
 class IngestProblem:
-    """One file, folder or record that gave no document. ``kind`` is 'error' for
-    unreadable, unsafe or malformed input and 'skipped' for input that is not meant
-    to be read (unsupported type, stray summary sidecar). ``unlisted`` marks a
+    """One file, folder or record that gave no document, or a fault in one that did.
+    ``kind`` is 'error' for unreadable, unsafe or malformed input, 'skipped' for input
+    that is not meant to be read (unsupported type, stray summary sidecar) and
+    'warning' for a document read despite a fault (invalid front matter, an
+    unreadable date). ``unlisted`` marks a
     folder (or an absent root) whose contents could not be seen."""
 
     path: str

@@ -25,6 +25,7 @@ from concurrent.futures.process import BrokenProcessPool
 
 from store.records import Document, Segmentation
 from summarize.reading.limits import DocumentTookTooLong, time_limit
+from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import split_document
 
 Job = tuple[int, tuple[Document, Segmentation], list[str]]
@@ -47,12 +48,14 @@ def summarize_document(methods: dict, document: Document, segmentation: Segmenta
     return outcomes
 
 
-def split_or_error(document: Document, seconds: float = 0.0) -> Segmentation | Exception:
+def split_or_error(
+    document: Document, seconds: float = 0.0, splitter: SentenceSplitter | None = None
+) -> Segmentation | Exception:
     """The document's segmentation, or the splitter's failure as a plain RuntimeError;
     splitting longer than ``seconds`` (0: no limit) is such a failure."""
     try:
         with time_limit(seconds):
-            return split_document(document)
+            return split_document(document, splitter)
     except DocumentTookTooLong as error:
         return RuntimeError(f"sentence splitting {error}")
     except Exception as error:  # one file's splitter fault must not stop the batch
@@ -93,11 +96,13 @@ class InProcessExecutor:
     def __exit__(self, *exc) -> None:
         pass
 
-    def split_documents(self, documents: Iterable[Document], stop) -> Iterator[tuple[Document, object]]:
+    def split_documents(
+        self, documents: Iterable[Document], stop, splitter: SentenceSplitter | None = None
+    ) -> Iterator[tuple[Document, object]]:
         for document in documents:
             if stop.reason():
                 return
-            yield document, split_or_error(document, self.document_seconds)
+            yield document, split_or_error(document, self.document_seconds, splitter)
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         for document_id, (document, segmentation), names in jobs:
@@ -113,7 +118,7 @@ class _WindowedExecutor(ABC):
     document_seconds = 0.0
 
     @abstractmethod
-    def _submit_split(self, document: Document):
+    def _submit_split(self, document: Document, splitter: SentenceSplitter | None):
         """Start splitting one document; return a future."""
 
     @abstractmethod
@@ -139,7 +144,9 @@ class _WindowedExecutor(ABC):
         except Exception as error:
             return failure(RuntimeError(f"worker failed: {type(error).__name__}: {error}"))
 
-    def split_documents(self, documents: Iterable[Document], stop) -> Iterator[tuple[Document, object]]:
+    def split_documents(
+        self, documents: Iterable[Document], stop, splitter: SentenceSplitter | None = None
+    ) -> Iterator[tuple[Document, object]]:
         in_flight: deque = deque()
         documents = iter(documents)
         exhausted = False
@@ -149,7 +156,7 @@ class _WindowedExecutor(ABC):
                 if document is None:
                     exhausted = True
                     break
-                in_flight.append((document, self._submit_split(document)))
+                in_flight.append((document, self._submit_split(document, splitter)))
             if stop.reason():
                 still = set(self._cancel_unstarted([future for _, future in in_flight]))
                 in_flight = deque((document, future) for document, future in in_flight if future in still)
@@ -196,8 +203,8 @@ class ProcessExecutor(_WindowedExecutor):
     def __exit__(self, *exc) -> None:
         self.pool.shutdown(wait=True, cancel_futures=True)
 
-    def _submit_split(self, document):
-        return self.pool.submit(split_or_error, document, self.document_seconds)
+    def _submit_split(self, document, splitter):
+        return self.pool.submit(split_or_error, document, self.document_seconds, splitter)
 
     def _submit(self, document, segmentation, names):
         return self.pool.submit(_summarize_in_worker, document, segmentation, names)
@@ -254,8 +261,8 @@ class DaskExecutor(_WindowedExecutor):
         # documents per worker thread, so they are all finished and kept.
         return futures
 
-    def _submit_split(self, document):
-        return self.client.submit(split_or_error, document, self.document_seconds, pure=False)
+    def _submit_split(self, document, splitter):
+        return self.client.submit(split_or_error, document, self.document_seconds, splitter, pure=False)
 
     def _submit(self, document, segmentation, names):
         return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)

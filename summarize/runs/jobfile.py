@@ -9,6 +9,7 @@
     until = "06:30"
     log = "/var/log/summaries/night.log"
     exclude = ["drafts", "*.tmp"]
+    abbreviation = ["Harb.", "Mstr."]   # never end a sentence before a number or a name
 
     [seq2seq]
     model = "/models/flan-t5-small"
@@ -54,6 +55,7 @@ RUN_KEYS = {
     "follow_links_outside": bool,
     "exclude": list,
     "strict_exit": bool,
+    "abbreviation": list,
     "seq2seq": dict,
     "aspects": dict,
 }

@@ -21,6 +21,7 @@ SIGINT/SIGTERM, and says how much remains.
 
 from __future__ import annotations
 
+import logging
 import os
 import time
 from collections.abc import Iterable, Iterator, Sequence
@@ -36,6 +37,8 @@ from summarize.methods.budget import Budget
 from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
 from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, archive_files, iter_archive
+from summarize.reading.sentences import SentenceSplitter
+from summarize.reading.split import DEFAULT_SPLITTER
 from summarize.runs.executors import check_scheduler, make_executor
 from summarize.runs.known_failures import FailureSorter
 from summarize.runs.progress import Progress
@@ -73,6 +76,8 @@ class RunReport:
     failed_summaries: list[str] = field(default_factory=list)
     known_failures: list[str] = field(default_factory=list)
     strict_exit: bool = False
+    warnings: list[str] = field(default_factory=list)
+    references_changed: list[str] = field(default_factory=list)
     seconds: float = 0.0
     documents_summarized: int = 0
 
@@ -100,6 +105,8 @@ class RunReport:
             "files_skipped": len(self.skipped_files),
             "summaries_failed": len(self.failed_summaries),
             "known_failures": len(self.known_failures),
+            "warnings": len(self.warnings),
+            "references_changed": len(self.references_changed),
             "stop_reason": self.stop_reason,
             "seconds": round(self.seconds, 3),
             "documents_per_second": round(self.documents_summarized / self.seconds, 3) if self.seconds else None,
@@ -140,7 +147,9 @@ def _under(record_key: str, roots: list[str]) -> bool:
     return any(path == root or path.startswith(root.rstrip(os.sep) + os.sep) for root in roots)
 
 
-def _read_archive(store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading) -> list[int]:
+def _read_archive(
+    store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter
+) -> list[int]:
     """Pass 1. Returns the ids of the current, non-duplicate documents seen; a stopped
     pass sets ``report.unread`` to the files it did not read to the end.
 
@@ -181,6 +190,11 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
                     if item.kind == "error":
                         files_failed.add(file_of(item.path))
                         failures.file_failed(item.path, item.reason)
+                    elif item.kind == "warning":
+                        # The document itself is read; the warning is told, the exit status unchanged.
+                        store.runs.record_problem(run_id, item.path, item.kind, item.reason)
+                        report.warnings.append(str(item))
+                        progress.message(f"warning: {item}", logging.WARNING)
                     else:
                         store.runs.record_problem(run_id, item.path, item.kind, item.reason)
                         report.skipped_files.append(str(item))
@@ -191,7 +205,15 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
                     progress.advance()
                 seen_keys.add(item.record_key)
                 if store.find_document(item.record_key, item.sha256) is not None:
-                    counted(*store.add_document(item, None, run_id))
+                    document_id, added, status = store.add_document(item, None, run_id)
+                    counted(document_id, added, status)
+                    if status != "duplicate":
+                        change = store.refresh_reference(document_id, item, run_id)
+                        if change:
+                            report.references_changed.append(f"{item.record_key}: reference summary {change}")
+                            progress.message(
+                                f"{item.record_key}: reference summary {change}; earlier scores kept as history"
+                            )
                     tracker.done(item.path)
                 else:
                     yield item
@@ -200,7 +222,7 @@ def _read_archive(store, run_id, paths, fields, report, progress, stop, workers,
     progress.start(None, "files read")
     document_seconds = reading["limits"].document_seconds
     with make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor:
-        for document, segmentation in executor.split_documents(new_documents(), stop):
+        for document, segmentation in executor.split_documents(new_documents(), stop, splitter):
             if isinstance(segmentation, Exception):
                 failures.document_failed(document.record_key, document.sha256, str(segmentation))
             else:
@@ -247,6 +269,7 @@ def run_archive(
     follow_links_outside: bool = False,
     exclude: Sequence[str] = (),
     strict_exit: bool = False,
+    splitter: SentenceSplitter | None = None,
 ) -> RunReport:
     """Summarize every document under ``paths`` into the store at ``db_path``.
 
@@ -255,7 +278,8 @@ def run_archive(
     one file may cost (``summarize.reading.limits``); links leading out of ``paths``
     are followed only with ``follow_links_outside``; ``exclude`` patterns leave paths
     out (``summarize.reading.exclusions``); ``strict_exit`` makes known failures count
-    in the exit status as new ones do. Raises
+    in the exit status as new ones do; ``splitter`` cuts new documents into
+    sentences (default: the report abbreviations, nothing added). Raises
     :class:`~store.lock.StoreLocked` when another run holds the store.
     """
     paths = [str(p) for p in paths]
@@ -274,6 +298,7 @@ def run_archive(
         "methods": {m.name: m.get_params() for m in active},
         "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
         "record_fields": asdict(fields),
+        "sentences": (splitter or DEFAULT_SPLITTER).get_params(),
         "read_limits": asdict(limits),
         "follow_links_outside": follow_links_outside,
         "workers": workers,
@@ -296,9 +321,12 @@ def run_archive(
         report = RunReport(run_id=run_id, strict_exit=strict_exit)
         try:
             reading = {"limits": limits, "follow_links_outside": follow_links_outside, "exclude": exclude}
-            document_ids = _read_archive(
-                store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading
+            read_ids = _read_archive(
+                store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter
             )
+            # A copy read before its original was made the original's duplicate since.
+            document_ids = store.still_active(read_ids)
+            report.duplicates += len(read_ids) - len(document_ids)
             progress.message(
                 f"read {report.documents_seen} documents ({report.documents_added} new, "
                 f"{report.duplicates} duplicates), {len(report.errors)} unreadable files"

@@ -170,7 +170,7 @@ class HouseStyleSummarizer:
             raise RuntimeError("this model was trained on another feature set; train it again")
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        candidates = selectable_sentences(segmentation, words, self.min_words)
+        candidates = selectable_sentences(segmentation, words, self.min_words, texts)
         probabilities = np.zeros(len(texts))
         if candidates:
             rows = self._features().transform(document, segmentation)[candidates]

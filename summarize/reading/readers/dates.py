@@ -8,9 +8,11 @@ import re
 
 from dateutil import parser as dateutil_parser
 
-# All-numeric day/month orders are ambiguous (03/04/2024): only the unambiguous
-# ISO order is read from digits alone.
+# All-numeric day/month orders are ambiguous (03/04/2024): from digits alone, the ISO
+# order is read, and day/month/year only when the order cannot matter (14/03/2019:
+# there is no month 14; 05/05/2024).
 _ISO_DATE = re.compile(r"^\s*(\d{4})-(\d{1,2})-(\d{1,2})")
+_NUMERIC_DATE = re.compile(r"^\s*(\d{1,2})[/.-](\d{1,2})[/.-](\d{4})\s*$")
 _HAS_MONTH_NAME = re.compile(r"[A-Za-z]{3,}")
 _YEAR = re.compile(r"\b\d{4}\b")
 
@@ -29,6 +31,14 @@ def iso_date(value: object) -> str | None:
     match = _ISO_DATE.match(text)
     if match:
         return _valid(*(int(part) for part in match.groups()))
+    match = _NUMERIC_DATE.match(text)
+    if match:
+        first, second, year = (int(part) for part in match.groups())
+        if first > 12 or first == second:
+            return _valid(year, second, first)
+        if second > 12:
+            return _valid(year, first, second)
+        return None
     try:
         return email.utils.parsedate_to_datetime(text).date().isoformat()
     except (TypeError, ValueError, IndexError):
@@ -56,3 +66,14 @@ def _valid(year: int, month: int, day: int) -> str | None:
         return dt.date(year, month, day).isoformat()
     except ValueError:
         return None
+
+
+def date_problem(value: object) -> str | None:
+    """Why a date that is present could not be read (None when it was read, or when
+    there is none): a one-line reason for the run's warnings."""
+    if value is None or (isinstance(value, str) and not value.strip()) or iso_date(value) is not None:
+        return None
+    shown = str(value).strip()[:40]
+    if _NUMERIC_DATE.match(str(value)):
+        return f"date {shown!r} is ambiguous (day/month or month/day); stored without a date"
+    return f"date {shown!r} not understood; stored without a date"

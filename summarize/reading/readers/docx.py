@@ -21,7 +21,7 @@ from docx.text.paragraph import Paragraph
 from lxml import etree
 
 from summarize.reading.limits import LimitExceeded, current_limits
-from summarize.reading.readers.blocks import HEADING, LIST, PARAGRAPH, TABLE, Block, Extract
+from summarize.reading.readers.blocks import DATE_IN_FILE_METADATA, HEADING, LIST, PARAGRAPH, TABLE, Block, Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.errors import ReadError
 
@@ -68,7 +68,10 @@ def read_docx(raw: bytes) -> Extract:
     properties = document.core_properties
     title = (properties.title or "").strip() or next((b.text for b in blocks if b.is_heading), None)
     metadata = {key: value for key, value in (("author", properties.author),) if value}
-    return Extract(blocks=blocks, title=title, date=iso_date(properties.created), metadata=metadata)
+    date = iso_date(properties.created)
+    return Extract(
+        blocks=blocks, title=title, date=date, metadata=metadata, date_source=DATE_IN_FILE_METADATA if date else None
+    )
 
 
 def _open(raw: bytes) -> WordDocument:

@@ -7,6 +7,7 @@ import re
 
 import yaml
 
+from summarize.reading.limits import LimitExceeded
 from summarize.reading.readers.errors import ReadError
 from summarize.reading.readers.safe_yaml import load_bounded_yaml
 
@@ -39,6 +40,24 @@ def split_front_matter(text: str) -> tuple[dict, str]:
     if not isinstance(fields, dict):
         raise ReadError("front matter is not a mapping of keys to values")
     return {str(key).lower(): _plain(value) for key, value in fields.items()}, text[closing.end() :]
+
+
+def read_front_matter(text: str) -> tuple[dict, str, str | None]:
+    """``(fields, rest_of_text, warning)``. Front matter that is not valid YAML (or not
+    a mapping) is left out of the text and gives a warning instead of fields, so the
+    document is still read: ``title: Inspection INS-2025-114: Lift`` (a second colon
+    without quotes) should not cost the report."""
+    try:
+        fields, rest = split_front_matter(text)
+    except LimitExceeded:
+        # Front matter built to cost too much (an alias bomb) is hostile, not a slip: the file fails.
+        raise
+    except ReadError as exc:
+        opening = _OPENING.match(text)
+        closing = _CLOSING.search(text, opening.end()) if opening else None
+        rest = text[closing.end() :] if closing else text
+        return {}, rest, f"{exc}; read without it"
+    return fields, rest, None
 
 
 def summary_text(value: object) -> str | None:

@@ -14,7 +14,7 @@ import re
 from bs4 import BeautifulSoup, Comment, Doctype, NavigableString, ProcessingInstruction, Tag
 from bs4.dammit import EncodingDetector
 
-from summarize.reading.readers.blocks import HEADING, LIST, PARAGRAPH, TABLE, Block, Extract
+from summarize.reading.readers.blocks import DATE_IN_HEADER, HEADING, LIST, PARAGRAPH, TABLE, Block, Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.decoding import decode_text
 
@@ -46,7 +46,9 @@ def html_extract(markup: str, encoding: str | None) -> Extract:
     _walk(body, blocks)
     if title is None:
         title = next((block.text for block in blocks if block.is_heading and block.level == 1), None)
-    return Extract(blocks=blocks, title=title, date=date, encoding=encoding)
+    return Extract(
+        blocks=blocks, title=title, date=date, encoding=encoding, date_source=DATE_IN_HEADER if date else None
+    )
 
 
 def _title(soup: BeautifulSoup) -> str | None:

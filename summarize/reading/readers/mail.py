@@ -1,7 +1,9 @@
 """E-mail messages (.eml) read with the standard library's e-mail package.
 
 The body is the text/plain part, or the text/html part read as HTML when there
-is no plain one; attachments are listed in the metadata, not read. The subject
+is no plain one; attachments are listed in the metadata, not read. Greetings,
+sign-offs, signatures, disclaimers and quoted earlier messages stay in the text and
+are marked (``mailparts``), so that no method selects them. The subject
 is the title and the Date header the date.
 """
 
@@ -12,11 +14,12 @@ from email.message import EmailMessage
 from email.parser import BytesParser
 
 from summarize.reading.limits import LimitExceeded, current_limits
-from summarize.reading.readers.blocks import Extract
-from summarize.reading.readers.dates import iso_date
+from summarize.reading.readers.blocks import DATE_IN_EMAIL, Extract
+from summarize.reading.readers.dates import date_problem, iso_date
 from summarize.reading.readers.decoding import decode_text
 from summarize.reading.readers.errors import ReadError
 from summarize.reading.readers.html import html_extract
+from summarize.reading.readers.mailparts import mark_parts
 from summarize.reading.readers.text import plain_text_blocks
 
 _ADDRESS_HEADERS = ("from", "to", "cc")
@@ -46,8 +49,14 @@ def read_eml(raw: bytes) -> Extract:
         extract = html_extract(body, encoding)
     else:
         extract = Extract(blocks=plain_text_blocks(body), encoding=encoding)
+    extract.blocks = mark_parts(extract.blocks)
     extract.title = _header(message, "subject") or extract.title
-    extract.date = iso_date(_header(message, "date"))
+    date_header = _header(message, "date")
+    extract.date = iso_date(date_header)
+    extract.date_source = DATE_IN_EMAIL if extract.date else None
+    problem = date_problem(date_header)
+    if problem:
+        extract.warnings.append(f"Date header: {problem}")
     extract.metadata.update(_metadata(message))
     return extract
 

@@ -22,7 +22,7 @@ from pypdf import PasswordType, PdfReader
 from pypdf.errors import DependencyError, FileNotDecryptedError, PdfReadError
 
 from summarize.reading.limits import LimitExceeded, current_limits
-from summarize.reading.readers.blocks import Extract
+from summarize.reading.readers.blocks import DATE_IN_FILE_METADATA, Extract
 from summarize.reading.readers.dates import iso_date
 from summarize.reading.readers.errors import ReadError
 from summarize.reading.readers.headings import is_capitals_heading, is_heading_shaped
@@ -83,6 +83,7 @@ def read_pdf(raw: bytes) -> Extract:
         title=info.get("title") or (first_block if len(first_block) <= _MAX_TITLE_CHARS else None),
         date=info.get("date"),
         metadata=metadata,
+        date_source=DATE_IN_FILE_METADATA if info.get("date") else None,
     )
 
 

@@ -18,8 +18,8 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass
 
-from summarize.reading.readers.blocks import Extract
-from summarize.reading.readers.dates import iso_date
+from summarize.reading.readers.blocks import DATE_IN_RECORD, Extract
+from summarize.reading.readers.dates import date_problem, iso_date
 from summarize.reading.readers.decoding import decode_text
 from summarize.reading.readers.errors import ReadError
 from summarize.reading.readers.frontmatter import summary_text
@@ -158,6 +158,11 @@ def _outcome(
         reference_summary=summary,
         reference_source=f"field:{fields.summary}" if summary else None,
     )
+    if extract.date:
+        extract.date_source = DATE_IN_RECORD
+    problem = date_problem(record.get(fields.date))
+    if problem:
+        extract.warnings.append(f"{fields.date!r} field: {problem}")
     return RecordOutcome(locator, key, canonical, extract=extract)
 
 
