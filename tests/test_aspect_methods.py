@@ -184,3 +184,23 @@ def test_relevance_needs_a_guide_phrase_that_is_not_negated():
     document = Document("a", "a.txt", answered, "text", "4" * 64, len(answered))
     answer = AspectSummarizer().fit([answered]).summarize(document, split_document(document), cause)
     assert [s.text for s in answer.sentences] == ["The outage resulted from a failed relay at the substation."]
+
+
+# Common practice (no outside source): invented sentences. An aspect that every
+# document addresses (phrase_required false) may be answered by the question's
+# words alone; the default aspect may not.
+def test_phrase_required_can_be_switched_off_per_aspect():
+    text = ("Review\n\nThe team discussed what might cause it at the next workshop. "
+            "Operators met on Tuesday to agree the shift schedule.")
+    document = Document("p", "p.txt", text, "text", "5" * 64, len(text))
+    aspects = aspects_from_mapping({
+        "strict": {"question": "What caused it?", "phrases": ["caused by"]},
+        "loose": {"question": "What caused it?", "phrases": ["caused by"], "phrase_required": False},
+    })
+    summarizer = AspectSummarizer(min_evidence=0.1).fit([text])
+    strict, loose = (summarizer.summarize(document, split_document(document), aspect) for aspect in aspects)
+    assert not strict.addressed
+    assert loose.addressed and "might cause it" in loose.text
+    assert loose.params["aspect"]["phrase_required"] is False
+    with pytest.raises(UsageError):
+        aspects_from_mapping({"x": {"question": "?", "phrases": ["y"], "phrase_required": "yes"}})

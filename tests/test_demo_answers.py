@@ -17,6 +17,7 @@ from summarize.cli import main
 from summarize.methods.aspects.definitions import REPORT_ASPECTS
 from summarize.methods.aspects.references import aspect_references
 from summarize.output.caution import CAUTION
+from summarize.output.site.app import create_app
 
 ROOT = Path(__file__).resolve().parent.parent
 INCIDENT = "demo_archive/incidents/INC-2024-019_ps4_pump_bearing_failure.pdf"
@@ -123,3 +124,10 @@ def test_show_and_export_carry_the_aspect_answers(demo_store, tmp_path):
         written = outputs[fmt].read_text(encoding="utf-8")
         assert "Aspect answers" in written and f"chars {first['start']}-{first['end']}" in written
         assert (html.escape(CAUTION) if fmt == "html" else CAUTION) in written
+    # The review site's document page lists the same answers.
+    page = create_app(demo_store).test_client().get(f"/document/{record['document']['id']}",
+                                                    headers={"Host": "127.0.0.1:8765"})
+    assert page.status_code == 200
+    body = html.unescape(page.data.decode("utf-8"))
+    assert "Aspect answers" in body and first["text"] in body
+    assert f"chars {first['start']}–{first['end']}" in body and CAUTION in body

@@ -69,9 +69,10 @@ class AspectSummarizer:
     1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
        (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
     2. Candidates: :func:`answer_candidates` (``min_words`` to ``max_words`` words)
-       with ``evidence(s) ≥ min_evidence`` and at least ``min_phrases`` guide-phrase
-       matches outside negated statements — words of the question met one by one
-       rank sentences but never make one an answer. None → the document does not
+       with ``evidence(s) ≥ min_evidence`` and — when the aspect's
+       ``phrase_required`` holds, as by default — a guide-phrase match outside a
+       negated statement: words of the question met one by one rank sentences but
+       never make one an answer. None → the document does not
        address the aspect: no summary, confidence 0 (never a filler sentence).
     3. Ranking: ``p(s | q)`` of query-biased LexRank with ``bias``
        (:class:`~summarize.methods.aspects.lexrank.QueryBiasedLexRank`), over the
@@ -92,7 +93,6 @@ class AspectSummarizer:
     bias: float = 0.85
     mmr_lambda: float = 0.7
     min_evidence: float = 0.5
-    min_phrases: int = 1
     top_k: int | None = 50
     name: str = field(default="aspect-lexrank", init=False)
 
@@ -104,7 +104,6 @@ class AspectSummarizer:
             "bias": self.bias,
             "mmr_lambda": self.mmr_lambda,
             "min_evidence": self.min_evidence,
-            "min_phrases": self.min_phrases,
             "top_k": self.top_k,
         }
 
@@ -128,7 +127,7 @@ class AspectSummarizer:
         evidence, phrase_hits = self.evidence(texts, aspect)
         candidates = [
             i for i in answer_candidates(segmentation, texts, words, self.min_words, self.max_words)
-            if evidence[i] >= self.min_evidence and phrase_hits[i] >= self.min_phrases
+            if evidence[i] >= self.min_evidence and (phrase_hits[i] > 0 or not aspect.phrase_required)
         ]
         best = float(evidence.max()) if len(evidence) else 0.0
         if not candidates:
