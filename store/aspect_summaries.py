@@ -64,9 +64,12 @@ class AspectSummaries:
         aspects: list[str] | None = None,
         method: str | None = None,
         param_hashes: list[str] | None = None,
+        latest: bool = False,
     ) -> list[StoredAnswer]:
         """Stored aspect summaries of current documents, by document then aspect, each
-        with its sentences (span, score, the text it slices from the document)."""
+        with its sentences (span, score, the text it slices from the document).
+        ``latest``: only the newest answer of each document, aspect and method (older
+        ones were made with other settings or guide phrases)."""
         sql = """
             select a.id, a.document_id, d.record_key, d.title, d.date, a.aspect, a.method, a.param_hash,
                    a.addressed, a.confidence, a.details, a.run_id, d.text
@@ -81,6 +84,9 @@ class AspectSummaries:
         if method:
             sql += " and a.method = ?"
             params.append(method)
+        if latest:
+            sql += (" and a.id = (select max(b.id) from aspect_summaries b where b.document_id = a.document_id"
+                    " and b.aspect = a.aspect and b.method = a.method)")
         found = self.db.execute(sql + " order by d.record_key, a.aspect, a.id", params).fetchall()
         spans: dict[int, list[tuple]] = {}
         if found:

@@ -9,6 +9,8 @@ from dataclasses import dataclass, field
 
 import sqlite_utils
 
+from store.aspect_records import StoredAnswer
+from store.aspect_summaries import AspectSummaries
 from store.references import References
 from store.summary_details import SentenceRead, load_summary_details
 
@@ -41,6 +43,7 @@ class ExportRow:
     reference_summary: str | None
     reference_source: str | None
     summary_sentences: list[SentenceRead] = field(default_factory=list)
+    aspect_answers: list[StoredAnswer] = field(default_factory=list)
 
 
 class ExportReads:
@@ -74,7 +77,8 @@ class ExportReads:
     ) -> list[ExportRow]:
         """Every stored summary of a document with one of ``statuses``; only the given
         methods, parameter hashes and documents when those are given; ordered by
-        record key, method and summary id."""
+        record key, method and summary id. Each row carries its document's newest
+        answer to each aspect by each aspect method."""
         where = f"d.status in ({_marks(statuses)})"
         params: list = list(statuses)
         if methods:
@@ -99,6 +103,10 @@ class ExportReads:
         details = load_summary_details(
             self.db, where, params, lambda document_id: documents[document_id][8], order="d.record_key, s.method, s.id"
         )
+        answers: dict[int, list[StoredAnswer]] = {}
+        if documents:
+            for answer in AspectSummaries(self.db).rows(list(documents), latest=True):
+                answers.setdefault(answer.document_id, []).append(answer)
         rows = []
         for detail in details:
             document_id, record_key, path, title, date, date_source, fmt, status, _text = documents[detail.document_id]
@@ -123,6 +131,7 @@ class ExportReads:
                     reference_summary=reference.text if reference else None,
                     reference_source=reference.source if reference else None,
                     summary_sentences=detail.sentences,
+                    aspect_answers=answers.get(document_id, []),
                 )
             )
         return rows

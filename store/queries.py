@@ -8,6 +8,7 @@ import os
 
 import sqlite_utils
 
+from store.aspect_summaries import AspectSummaries
 from store.reference_history import reference_history
 from store.references import References
 from store.search import ParsedQuery
@@ -116,6 +117,7 @@ class Queries:
         summaries = load_summary_details(
             self.db, where, params, lambda _document_id: summarized["text"], order="s.method, s.id"
         )
+        answers = AspectSummaries(self.db).rows([summarized["id"]], method=method, latest=True)
         versions = [
             {"id": row[0], "sha256": row[1], "status": row[2], "first_run": row[3]}
             for row in self.db.execute(
@@ -134,5 +136,6 @@ class Queries:
                 if canonical else None
             ),
             "summaries": [summary.as_dict() for summary in summaries],
+            "aspect_answers": [answer.as_dict() for answer in answers],
             "versions": versions,
         }

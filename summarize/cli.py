@@ -454,6 +454,7 @@ def _print_document(record: dict, highlight: bool) -> None:
         for flag in summary["flags"]:
             where = f" (sentence {flag['position'] + 1})" if flag["position"] is not None else ""
             click.echo(f"  ! check {flag['kind']}: {printable(flag['detail'])}{where}")
+    _print_aspect_answers(record["aspect_answers"])
     if highlight:
         text = record["text"]
         marks = sorted({(s["start"], s["end"]) for summary in record["summaries"] for sent in summary["sentences"] for s in sent["sources"]})
@@ -469,16 +470,33 @@ def _print_document(record: dict, highlight: bool) -> None:
     click.echo(f"\n{CAUTION}")
 
 
+def _print_aspect_answers(answers: list[dict]) -> None:
+    """Each stored aspect answer: aspect, method, confidence, sentences with spans."""
+    if answers:
+        click.echo("\nAspect answers:")
+    for answer in answers:
+        aspect = answer["aspect"].replace("_", " ")
+        head = f"  {aspect}  ({answer['method']}, parameters {answer['param_hash']}, run {answer['run_id']})"
+        if not answer["addressed"]:
+            click.echo(f"{head}  not addressed in this document")
+            continue
+        click.echo(f"{head}  confidence {answer['confidence']:.2f}")
+        for sentence in answer["sentences"]:
+            click.echo(textwrap.fill(printable(sentence["text"]), 88,
+                                     initial_indent=f"    {sentence['position'] + 1}. ", subsequent_indent="       "))
+            click.echo(f"       from chars {sentence['start']}-{sentence['end']}")
+
+
 @main.command()
 @click.argument("document")
 @click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
-@click.option("--method", default=None, help="Only this method's summaries.")
+@click.option("--method", default=None, help="Only this method's summaries and aspect answers.")
 @click.option("--highlight", is_flag=True, help="Also print the source text with summary sentences marked.")
 @click.option("--json", "as_json", is_flag=True, help="Print the record as JSON.")
 def show(document, db_path, method, highlight, as_json):
     """Show one DOCUMENT (id, record key, path or JSON record id): metadata, reference,
-    summaries with their source spans, flags and scores. A JSON/JSONL file with several
-    records lists them."""
+    summaries with their source spans, flags and scores, and its newest answer to each
+    aspect. A JSON/JSONL file with several records lists them."""
     store = _open_existing(db_path)
     records = store.queries.file_records(document)
     if len(records) > 1:

@@ -15,7 +15,9 @@ above every method.
 from __future__ import annotations
 
 import json
+import sqlite3
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -24,8 +26,9 @@ from summarize.cli import main
 from summarize.evaluation.aspect_scores import GENERIC_METHODS, score_aspect_systems, tune_learned, unlearned
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.methods.aspects.definitions import PAPER_ASPECTS
+from summarize.methods.aspects.learned import opening_columns
 from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
-from summarize.runs.aspect_runs import summarize_aspects, train_aspects
+from summarize.runs.aspect_runs import AspectModelMissing, summarize_aspects, train_aspects
 
 pytestmark = pytest.mark.slow
 GRID = {"c": (0.05, 1.0), "bias": (0.5, 1.0), "min_probability": (0.2,),
@@ -96,3 +99,23 @@ def test_training_in_a_store_cross_validates_and_keeps_the_model(tmp_path):
     assert json.loads(result.stdout)["model_id"] == outcome.model_id + 1
     result = CliRunner().invoke(main, ["train-aspects", "--db", str(tmp_path / "empty.sqlite")])
     assert result.exit_code == 1 and "no such store" in result.output
+    # A model whose feature list differs from today's is refused, not misapplied.
+    db = sqlite3.connect(db_path)
+    with db:
+        db.execute("update learned_models set features = '[\"position_relative\"]' where name = 'aspect-learned'")
+    db.close()
+    with pytest.raises(AspectModelMissing, match="train it again"):
+        summarize_aspects(db_path, ["2"], PAPER_ASPECTS, method="aspect-learned")
+
+
+# Common practice (no outside source): the opening-sentence columns on an ACLSum
+# paper's line segmentation, where heading lines are not sentences of the text.
+def test_opening_columns_mark_the_first_body_sentences():
+    document = load_aclsum_aspects("val", limit=1)[0]
+    segmentation = line_segmentation(document)
+    columns = opening_columns(segmentation)
+    body = [i for i, heading in enumerate(segmentation.sentence_is_heading) if not heading]
+    assert segmentation.sentence_is_heading[0] and columns.shape == (len(segmentation.sentences), 4)
+    for k in range(3):
+        assert list(np.flatnonzero(columns[:, k])) == [body[k]]
+    assert columns[body[0], 3] == 1.0 and columns[body[1], 3] == 0.5 and columns[0, 3] == 0.0

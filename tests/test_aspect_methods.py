@@ -13,6 +13,7 @@ from store.errors import UsageError
 from store.records import Document
 from summarize.methods.aspects.definitions import PAPER_ASPECTS, REPORT_ASPECTS, Aspect, aspects_from_mapping
 from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexRank, cosine_graph
+from summarize.methods.aspects.negation import NegationScope
 from summarize.methods.aspects.references import aspect_references, labelled_sections
 from summarize.methods.aspects.relevance import QueryRelevance
 from summarize.methods.aspects.selection import AspectSummarizer
@@ -142,3 +143,64 @@ def test_aspects_from_a_job_table_and_their_errors():
         Aspect("Bad Name", "?", ("x",))
     date = REPORT_ASPECTS[2].phrase_patterns()[REPORT_ASPECTS[2].phrases.index("by <date>")]
     assert date.search("to be replaced by 30 April 2025") and date.search("by end of November")
+
+
+# Common practice (no outside source): invented sentences; the rule is NegEx's
+# pre-negation trigger with a clause-bounded window (Chapman et al. 2001, recalled
+# from memory).
+@pytest.mark.parametrize(("sentence", "phrase", "negated"), [
+    ("No water quality failures resulted from the incident.", "resulted from", True),
+    ("There was no evidence that the pump failed on the night.", "failed", True),
+    ("The delay was not caused by the contractor.", "caused by", True),
+    ("Nobody could say why the valve failed.", "failed", True),
+    ("The outage resulted from a failed relay at the substation.", "resulted from", False),
+    ("No one was hurt, but the fire resulted from a faulty heater.", "resulted from", False),
+    ("With no pumps available, the station was shut down.", "was shut down", False),
+    ("The hatch seal has not yet been replaced.", "not yet", False),
+    ("No spare parts were held in the store for the lubricator on that curve, so it failed.", "failed", False),
+])
+def test_negated_guide_phrases_are_recognised(sentence, phrase, negated):
+    start = sentence.lower().index(phrase)
+    assert NegationScope().negated(sentence, start) is negated
+
+
+# Common practice (no outside source): invented report text. A negated statement and
+# question words met one by one ("cause", "it") are not answers; a real guide-phrase
+# match is.
+def test_relevance_needs_a_guide_phrase_that_is_not_negated():
+    cause = REPORT_ASPECTS[0]
+    loose = ("Incident review\n\nNo water quality failures resulted from the incident. "
+             "The team discussed what might cause it at the next workshop. "
+             "Operators met on Tuesday to agree the shift schedule.")
+    document = Document("n", "n.txt", loose, "text", "3" * 64, len(loose))
+    summarizer = AspectSummarizer().fit([loose])
+    texts = split_document(document).sentence_texts(loose)
+    evidence, hits = summarizer.evidence(texts, cause)
+    assert list(hits) == [0] * len(texts)
+    assert max(evidence) > 0  # the question's words still count towards ranking
+    summary = summarizer.summarize(document, split_document(document), cause)
+    assert not summary.addressed and summary.sentences == []
+    answered = loose + " The outage resulted from a failed relay at the substation."
+    document = Document("a", "a.txt", answered, "text", "4" * 64, len(answered))
+    answer = AspectSummarizer().fit([answered]).summarize(document, split_document(document), cause)
+    assert [s.text for s in answer.sentences] == ["The outage resulted from a failed relay at the substation."]
+
+
+# Common practice (no outside source): invented sentences. An aspect that every
+# document addresses (phrase_required false) may be answered by the question's
+# words alone; the default aspect may not.
+def test_phrase_required_can_be_switched_off_per_aspect():
+    text = ("Review\n\nThe team discussed what might cause it at the next workshop. "
+            "Operators met on Tuesday to agree the shift schedule.")
+    document = Document("p", "p.txt", text, "text", "5" * 64, len(text))
+    aspects = aspects_from_mapping({
+        "strict": {"question": "What caused it?", "phrases": ["caused by"]},
+        "loose": {"question": "What caused it?", "phrases": ["caused by"], "phrase_required": False},
+    })
+    summarizer = AspectSummarizer(min_evidence=0.1).fit([text])
+    strict, loose = (summarizer.summarize(document, split_document(document), aspect) for aspect in aspects)
+    assert not strict.addressed
+    assert loose.addressed and "might cause it" in loose.text
+    assert loose.params["aspect"]["phrase_required"] is False
+    with pytest.raises(UsageError):
+        aspects_from_mapping({"x": {"question": "?", "phrases": ["y"], "phrase_required": "yes"}})

@@ -2,7 +2,9 @@
 
 By default one method at one budget and setting is exported (see summary_choice.py),
 so each document gives one row; documents gone from disk and replaced versions are
-left out. Every format carries the caution (a ``caution`` field per row in CSV and
+left out. Each document's newest answer to each aspect (per aspect method) goes with
+it: a readable ``aspect_answers`` cell in CSV, the full records in JSON Lines, a list
+under the document in Markdown and HTML. Every format carries the caution (a ``caution`` field per row in CSV and
 JSON Lines, a paragraph at the top of Markdown and HTML). In HTML every string taken
 from a document or a summary is escaped, and so is HTML in Markdown (a Markdown
 viewer would render it); JSON Lines is strict (``summarize.output.strict_json``). The
@@ -25,6 +27,7 @@ import re
 from dataclasses import asdict
 from pathlib import Path
 
+from store.aspect_records import StoredAnswer
 from store.exports import ExportRow
 from store.store import Store
 from summarize.evaluation.budget_labels import budget_label
@@ -37,7 +40,7 @@ FORMATS = ("csv", "jsonl", "md", "html")
 CSV_COLUMNS = (
     "document_id", "record_key", "title", "date", "date_source", "status", "format", "method", "budget", "settings",
     "param_hash", "summary", "source_spans", "flags", "rouge_f1", "reference_summary", "reference_source",
-    "caution",
+    "aspect_answers", "caution",
 )
 _LINE_BREAKS = re.compile(r"\s*[\r\n\v\f\u0085\u2028\u2029]+\s*")
 _FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
@@ -64,6 +67,19 @@ def date_label(row: ExportRow) -> str:
     return row.date or ""
 
 
+def _aspect_label(aspect: str) -> str:
+    return aspect.replace("_", " ")
+
+
+def answer_line(answer: StoredAnswer) -> str:
+    """One aspect answer in one line: aspect, method, confidence, text, spans."""
+    if not answer.addressed:
+        return f"{_aspect_label(answer.aspect)} ({answer.method}): not addressed"
+    spans = ", ".join(f"{s.start}-{s.end}" for s in answer.sentences)
+    text = " ".join(answer.text.split())
+    return f"{_aspect_label(answer.aspect)} ({answer.method}, confidence {answer.confidence:.2f}): {text} [chars {spans}]"
+
+
 def _write_csv(rows: list[ExportRow], out) -> None:
     writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS)
     writer.writeheader()
@@ -72,6 +88,7 @@ def _write_csv(rows: list[ExportRow], out) -> None:
         for key in ("source_spans", "rouge_f1"):
             record[key] = strict_json.dumps(record[key])
         record["flags"] = "; ".join(row.flags)
+        record["aspect_answers"] = " | ".join(answer_line(answer) for answer in row.aspect_answers)
         record["caution"] = CAUTION
         writer.writerow({key: spreadsheet_cell(value) for key, value in record.items()})
 
@@ -97,6 +114,11 @@ def _write_markdown(rows: list[ExportRow], out) -> None:
             out.write(f"`{_markdown_cell(row.record_key)}`" + (f" · {date_label(row)}" if row.date else "") + "\n\n")
             if row.reference_summary:
                 out.write(f"*Reference ({_markdown_cell(row.reference_source)}):* {_markdown_cell(row.reference_summary)}\n\n")
+            if row.aspect_answers:
+                out.write("*Aspect answers:*\n\n")
+                for answer in row.aspect_answers:
+                    out.write(f"- {_markdown_cell(answer_line(answer))}\n")
+                out.write("\n")
         scores = ", ".join(f"{m} {v:.3f}" for m, v in sorted(row.rouge_f1.items()))
         out.write(f"**{row.method}**" + (f" (ROUGE F1: {scores})" if scores else "") + "\n\n")
         for sentence in row.summary_sentences:
@@ -132,6 +154,11 @@ def _write_html(rows: list[ExportRow], out) -> None:
             out.write(f"<p class='meta'>{e(row.record_key)}{' · ' + e(date_label(row)) if row.date else ''}</p>")
             if row.reference_summary:
                 out.write(f"<p class='ref'>Reference ({e(row.reference_source or '')}): {e(row.reference_summary)}</p>")
+            if row.aspect_answers:
+                out.write("<p class='method'>Aspect answers</p><ul class='aspects'>")
+                for answer in row.aspect_answers:
+                    out.write(f"<li>{e(answer_line(answer))}</li>")
+                out.write("</ul>")
         out.write(f"<p class='method'>{e(row.method)}</p><ol>")
         for sentence in row.summary_sentences:
             spans = ", ".join(f"{s.start}–{s.end}" for s in sentence.sources)

@@ -87,7 +87,12 @@ def _summarizer(store: Store, method: str, budget: Budget):
         model = store.models.latest("aspect-learned")
         if model is None:
             raise AspectModelMissing(
-                f"{store.path}: no trained aspect-learned model in the store (train one with `summarize aspects train`)"
+                f"{store.path}: no trained aspect-learned model in the store (train one with `summarize train-aspects`)"
+            )
+        if model.features != list(ASPECT_FEATURE_NAMES):
+            raise AspectModelMissing(
+                f"{store.path}: the stored aspect-learned model was trained on another feature set; "
+                "train it again with `summarize train-aspects`"
             )
         summarizer = copy.copy(model.load(LEARNED_ASPECT_TYPES))
         summarizer.budget = budget

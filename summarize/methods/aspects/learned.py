@@ -34,8 +34,10 @@ from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, s
 from summarize.methods.learned.house_style import TRUSTED_TYPES as HOUSE_STYLE_TRUSTED_TYPES
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
 
+OPENING_SENTENCES = 3
 ASPECT_FEATURE_NAMES = (*FEATURE_NAMES, "aspect_evidence", "aspect_evidence_rank", "aspect_phrase_hits",
-                        "aspect_lexrank", "aspect_lexrank_rank")
+                        "aspect_lexrank", "aspect_lexrank_rank",
+                        *(f"opening_{k + 1}" for k in range(OPENING_SENTENCES)), "opening_inverse")
 MODELS = ("logistic", "gradient-boosting")
 Example = tuple[Document, Segmentation]
 TUNABLE = ("c", "bias", "min_probability", "relevance")
@@ -68,15 +70,28 @@ def _rank_share(values: np.ndarray) -> np.ndarray:
     return rankdata(values, method="average") / len(values) if len(values) else values
 
 
+def opening_columns(segmentation: Segmentation) -> np.ndarray:
+    """Where a sentence stands among the document's non-heading sentences, as one
+    indicator per opening sentence (first, second, third) and ``1 / (1 + order)``.
+    The house-style position features are smooth in position; these let a linear
+    scorer single out the opening sentences, where papers and reports state their
+    problem."""
+    body = [i for i, heading in enumerate(segmentation.sentence_is_heading) if not heading]
+    order = np.full(len(segmentation.sentences), np.inf)
+    order[body] = np.arange(len(body))
+    indicators = [(order == k).astype(float) for k in range(OPENING_SENTENCES)]
+    return np.column_stack([*indicators, 1.0 / (1.0 + order)])
+
+
 @dataclass
 class LearnedAspectSummarizer:
     """Supervised sentence scoring per aspect, ranked by query-biased LexRank.
 
     Features: the house-style sentence features (position, section cues, centrality,
-    surface cues; :class:`~summarize.methods.learned.sentence_features.SentenceFeatures`)
-    plus, per aspect, ``evidence(s)``, the guide-phrase count and the query-biased
-    LexRank score (Otterbacher, Erkan & Radev 2005), raw and as within-document rank
-    shares. Labels: ``y = 1`` for the sentences the greedy extractive oracle
+    surface cues; :class:`~summarize.methods.learned.sentence_features.SentenceFeatures`),
+    indicators of the opening sentences (:func:`opening_columns`), plus, per aspect,
+    ``evidence(s)``, the guide-phrase count and the query-biased LexRank score
+    (Otterbacher, Erkan & Radev 2005), raw and as within-document rank shares. Labels: ``y = 1`` for the sentences the greedy extractive oracle
     (:class:`~summarize.evaluation.oracle.OracleSummarizer`) picks against that
     aspect's reference, at the reference's length in words; documents without a
     reference for an aspect do not train it. One classifier per aspect learns
@@ -206,7 +221,8 @@ class LearnedAspectSummarizer:
             vectors, np.clip(evidence, 0, None)
         )
         lexrank = lexrank * max(len(texts), 1)
-        columns = np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank)])
+        columns = np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank),
+                                   opening_columns(segmentation)])
         return columns, evidence, vectors
 
     def untrained_copy(self) -> LearnedAspectSummarizer:

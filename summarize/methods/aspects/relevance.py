@@ -11,6 +11,7 @@ from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer
 
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import stemmed_words
+from summarize.methods.aspects.negation import NegationScope
 
 
 @dataclass
@@ -23,7 +24,10 @@ class QueryRelevance:
     Terms are Porter-stemmed content words of the aspect's question and guide
     phrases, plus — our addition — each guide phrase as one term of its own
     (``tf(phrase, q) = 1``, ``idf(phrase)`` the sum of its words' IDF), so that "root
-    cause" counts for more than "root" and "cause" met apart. IDF is scikit-learn's
+    cause" counts for more than "root" and "cause" met apart. A phrase match inside a
+    negated statement ("No failures resulted from …";
+    :class:`~summarize.methods.aspects.negation.NegationScope`) counts neither as a
+    phrase term nor as a match. IDF is scikit-learn's
     smooth IDF ``ln((1 + n)/(1 + df)) + 1`` fitted over the archive (``fit``); words
     the archive never uses get the largest IDF seen.
 
@@ -46,7 +50,8 @@ class QueryRelevance:
         return float(self.idf_.get(word, self.max_idf_))
 
     def relevance(self, sentences: list[str], aspect: Aspect) -> tuple[np.ndarray, np.ndarray]:
-        """``rel(s | q)`` for every sentence, and the count of guide-phrase matches."""
+        """``rel(s | q)`` for every sentence, and the count of its guide-phrase
+        matches that are not negated."""
         if not hasattr(self, "vectorizer_"):
             raise RuntimeError("QueryRelevance.fit must be called (on the archive) before scoring")
         query_counts = CountVectorizer(analyzer=stemmed_words).fit([aspect.query_text()])
@@ -59,8 +64,11 @@ class QueryRelevance:
         sentence_counts = query_counts.transform(sentences).toarray()
         scores = np.log1p(sentence_counts) @ word_weights
         phrase_hits = np.zeros(len(sentences))
+        negation = NegationScope()
         for pattern, weight in zip(aspect.phrase_patterns(), self.phrase_idfs(aspect)):
-            counts = np.array([len(pattern.findall(s)) for s in sentences], dtype=float)
+            counts = np.array(
+                [sum(not negation.negated(s, m.start()) for m in pattern.finditer(s)) for s in sentences], dtype=float
+            )
             phrase_hits += counts
             scores += np.log1p(counts) * math.log(2) * weight
         return scores, phrase_hits

@@ -69,8 +69,11 @@ class AspectSummarizer:
     1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
        (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
     2. Candidates: :func:`answer_candidates` (``min_words`` to ``max_words`` words)
-       with ``evidence(s) ≥ min_evidence``. None → the document does not address
-       the aspect: no summary, confidence 0 (never a filler sentence).
+       with ``evidence(s) ≥ min_evidence`` and — when the aspect's
+       ``phrase_required`` holds, as by default — a guide-phrase match outside a
+       negated statement: words of the question met one by one rank sentences but
+       never make one an answer. None → the document does not
+       address the aspect: no summary, confidence 0 (never a filler sentence).
     3. Ranking: ``p(s | q)`` of query-biased LexRank with ``bias``
        (:class:`~summarize.methods.aspects.lexrank.QueryBiasedLexRank`), over the
        whole document's graph so centrality among all sentences counts.
@@ -121,10 +124,10 @@ class AspectSummarizer:
     def summarize(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> AspectSummary:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        evidence, _ = self.evidence(texts, aspect)
+        evidence, phrase_hits = self.evidence(texts, aspect)
         candidates = [
             i for i in answer_candidates(segmentation, texts, words, self.min_words, self.max_words)
-            if evidence[i] >= self.min_evidence
+            if evidence[i] >= self.min_evidence and (phrase_hits[i] > 0 or not aspect.phrase_required)
         ]
         best = float(evidence.max()) if len(evidence) else 0.0
         if not candidates:
