@@ -167,7 +167,7 @@ def test_methods_are_deterministic():
         document = _doc(ARCHIVE[0])
         first = method.summarize(document, split_document(document))
         second = method.summarize(document, split_document(document))
-        assert first.text == second.text and first.param_hash == second.param_hash
+        assert first.text == second.text
 
 
 def test_word_and_ratio_budgets():

@@ -21,47 +21,41 @@ from store.records import param_hash
 from store.store import Store
 from summarize.evaluation.budget_labels import BUDGET_RULE_KEY, REFERENCE_WORDS, budget_label, is_matched
 from summarize.evaluation.oracle import OracleSummarizer
-from summarize.methods.baselines import RandomSummarizer
-from summarize.methods.budget import Budget, count_words
-from summarize.methods.extractive import EXTRACTIVE_METHODS
+from summarize.methods.budget import REFERENCE, Budget, count_words
+from summarize.methods.registry import MATCHED, MethodSettings, build_method, check_names
 
 __all__ = ["BUDGET_RULE_KEY", "REFERENCE_WORDS", "MatchedBudget", "add_matched_summaries", "budget_label", "is_matched"]
 
-SUMMARIZERS = {**EXTRACTIVE_METHODS, "random": RandomSummarizer, "oracle": OracleSummarizer}
 MATCHED_METHODS = ("lead", "tfidf", "textrank", "oracle")
 
 
 @dataclass(frozen=True)
 class MatchedBudget:
-    """``words=None``: each document's reference length in words (``count_words``);
-    ``words=N``: N words for every document."""
+    """The budget every compared method gets: ``fixed=None`` is each document's
+    reference length in words (``count_words``); otherwise one :class:`Budget` for
+    every document (sentences, words or a share of the document)."""
 
-    words: int | None = None
+    fixed: Budget | None = None
 
     @classmethod
     def parse(cls, spec: str | int) -> MatchedBudget:
-        """``"reference"``, or a number of words (``"120"`` or ``"120w"``)."""
-        value = str(spec).strip().lower()
-        if value == "reference":
+        """The budget grammar: ``reference``, ``3``, ``80w`` or ``10%``."""
+        if str(spec).strip().lower() == REFERENCE:
             return cls()
-        try:
-            words = int(value.removesuffix("w"))
-        except ValueError:
-            raise ValueError(f"budget {spec!r}: expected 'reference' or a number of words such as 120") from None
-        if words < 1:
-            raise ValueError(f"budget {spec!r}: the number of words must be at least 1")
-        return cls(words=words)
+        return cls(fixed=Budget.parse(spec))
 
     def budget_for(self, reference: str) -> Budget:
-        return Budget(words=self.words if self.words is not None else max(1, count_words(reference)))
+        return self.fixed if self.fixed is not None else Budget(words=max(1, count_words(reference)))
 
     def tagged(self, params: dict) -> dict:
-        """A fixed budget is an ordinary word budget; a per-document one is marked, so
+        """A fixed budget is an ordinary budget; a per-document one is marked, so
         it is grouped as one budget and its summaries never collide with a fixed one."""
-        return params if self.words is not None else {**params, BUDGET_RULE_KEY: REFERENCE_WORDS}
+        return params if self.fixed is not None else {**params, BUDGET_RULE_KEY: REFERENCE_WORDS}
 
     def label(self) -> str:
-        return budget_label(self.tagged({"budget": {"words": self.words or 1}}))
+        if self.fixed is not None:
+            return str(self.fixed)
+        return budget_label(self.tagged({"budget": {"words": 1}}))
 
 
 def _with_budget(method, budget: Budget):
@@ -80,10 +74,7 @@ def add_matched_summaries(
 ) -> int:
     """Summarize every active document with a reference with each of ``methods`` at
     the matched budget; returns how many summaries were added (stored ones are kept)."""
-    unknown = [name for name in methods if name not in SUMMARIZERS]
-    if unknown:
-        raise ValueError(f"unknown methods {unknown} (known: {', '.join(sorted(SUMMARIZERS))})")
-    prototypes = [SUMMARIZERS[name]() for name in methods]
+    prototypes = [build_method(name, MethodSettings(), usable=MATCHED) for name in check_names(methods, MATCHED)]
     missing = []
     for document_id in store.references.referenced_document_ids():
         document, segmentation = store.documents.load(document_id)

@@ -16,6 +16,7 @@ import numpy as np
 from store.records import Document, Segmentation, Summary
 from summarize.evaluation.rouge import RougeMetric
 from summarize.methods.budget import Budget, count_words
+from summarize.methods.contract import ParamsFromFields
 from summarize.methods.extractive import DEFAULT_BUDGET, build_summary, selectable_sentences
 
 
@@ -30,7 +31,7 @@ def word_limit(budget: Budget, sentence_words: list[int]) -> float:
 
 
 @dataclass
-class OracleSummarizer:
+class OracleSummarizer(ParamsFromFields):
     """Greedy extractive oracle under a budget.
 
     Starting from an empty selection ``S``, repeatedly add the sentence ``s`` that
@@ -51,14 +52,8 @@ class OracleSummarizer:
 
     budget: Budget = DEFAULT_BUDGET
     min_words: int = 4
+    objective: str = field(default="mean of ROUGE-1 and ROUGE-2 F1, Porter stemming", init=False)
     name: str = field(default="oracle", init=False)
-
-    def get_params(self) -> dict:
-        return {
-            "budget": self.budget.as_dict(),
-            "min_words": self.min_words,
-            "objective": "mean of ROUGE-1 and ROUGE-2 F1, Porter stemming",
-        }
 
     def fit(self, texts: list[str]) -> OracleSummarizer:
         return self

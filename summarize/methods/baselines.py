@@ -10,11 +10,12 @@ import numpy as np
 
 from store.records import Document, Segmentation, Summary
 from summarize.methods.budget import Budget, count_words
+from summarize.methods.contract import ParamsFromFields
 from summarize.methods.extractive import DEFAULT_BUDGET, build_summary, selectable_sentences
 
 
 @dataclass
-class RandomSummarizer:
+class RandomSummarizer(ParamsFromFields):
     """Random selection: candidate sentences in a seeded random order, cut to the
     budget by :meth:`Budget.select` and returned in document order.
 
@@ -28,9 +29,6 @@ class RandomSummarizer:
     min_words: int = 4
     seed: int = 0
     name: str = field(default="random", init=False)
-
-    def get_params(self) -> dict:
-        return {"budget": self.budget.as_dict(), "min_words": self.min_words, "seed": self.seed}
 
     def fit(self, texts: list[str]) -> RandomSummarizer:
         return self

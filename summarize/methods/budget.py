@@ -7,7 +7,17 @@ import re
 from collections.abc import Iterable, Sequence
 from dataclasses import asdict, dataclass
 
+from store.errors import UsageError
+
 _WORD = re.compile(r"\w+(?:[-'’]\w+)*")
+
+REFERENCE = "reference"
+FIXED_GRAMMAR = "'3' (sentences), '80w' (words) or '10%' (of the document)"
+GRAMMAR = "'3' (sentences), '80w' (words), '10%' (of the document) or 'reference' (each reference summary's length)"
+
+
+class BudgetError(UsageError, ValueError):
+    """A budget outside the grammar, or one a command cannot use."""
 
 
 def count_words(text: str) -> int:
@@ -40,31 +50,41 @@ class Budget:
             raise ValueError(f"ratio must be in (0, 1], got {self.ratio}")
 
     @classmethod
-    def parse(cls, spec: str) -> Budget:
-        """``"3"`` or ``"3s"`` sentences, ``"80w"`` words, ``"10%"`` or ``"0.1r"`` ratio."""
-        value = spec.strip().lower()
+    def parse(cls, spec: str | int) -> Budget:
+        """The budget grammar every command shares: ``3`` sentences, ``80w`` words,
+        ``10%`` of the document's words. ``reference`` (each reference summary's length)
+        is a matched budget, for scoring: see :func:`parse_budget`."""
+        value = str(spec).strip().lower()
+        if value == REFERENCE:
+            raise BudgetError(f"budget {spec!r}: {REFERENCE!r} matches each reference summary's length and is "
+                              "used by score, compare and report; here give " + FIXED_GRAMMAR)
         try:
             if value.endswith("%"):
                 return cls(ratio=float(value[:-1]) / 100)
-            if value.endswith("r"):
-                return cls(ratio=float(value[:-1]))
             if value.endswith("w"):
                 return cls(words=int(value[:-1]))
-            return cls(sentences=int(value.rstrip("s")))
+            return cls(sentences=int(value))
         except ValueError as error:
-            raise ValueError(
-                f"budget {spec!r}: expected e.g. '3' (sentences), '80w' (words) or '10%' ({error})"
-            ) from None
+            reason = "" if "invalid literal" in str(error) or "could not convert" in str(error) else f" ({error})"
+            raise BudgetError(f"budget {spec!r}: expected {GRAMMAR}{reason}") from None
 
     def as_dict(self) -> dict:
         return {k: v for k, v in asdict(self).items() if v is not None}
 
     def __str__(self) -> str:
         if self.sentences is not None:
-            return f"{self.sentences} sentences"
+            return f"{self.sentences} sentence{'s' if self.sentences != 1 else ''}"
         if self.words is not None:
             return f"{self.words} words"
         return f"{self.ratio:.0%} of the document's words"
+
+    def spec(self) -> str:
+        """The budget in the command-line grammar (``3``, ``80w``, ``10%``)."""
+        if self.sentences is not None:
+            return str(self.sentences)
+        if self.words is not None:
+            return f"{self.words}w"
+        return f"{self.ratio * 100:g}%"
 
     def select(self, ranked: Iterable[int], sentence_words: Sequence[int]) -> list[int]:
         """Take indices from ``ranked`` (best first) until the budget is spent; return

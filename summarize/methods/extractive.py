@@ -22,6 +22,7 @@ from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer
 
 from store.records import Document, Segmentation, SourceLink, Summary, SummarySentence
 from summarize.methods.budget import Budget, count_words
+from summarize.methods.contract import ParamsFromFields
 from summarize.methods.graph import pagerank, top_k_symmetric
 
 DEFAULT_BUDGET = Budget(sentences=3)
@@ -134,7 +135,7 @@ def mmr_order(
 
 
 @dataclass
-class LeadSummarizer:
+class LeadSummarizer(ParamsFromFields):
     """Lead baseline: the first sentences of the document, up to the budget.
 
     Common practice (the standard news-summarization baseline); no published formula.
@@ -144,9 +145,6 @@ class LeadSummarizer:
     budget: Budget = DEFAULT_BUDGET
     min_words: int = 4
     name: str = field(default="lead", init=False)
-
-    def get_params(self) -> dict:
-        return {"budget": self.budget.as_dict(), "min_words": self.min_words}
 
     def fit(self, texts: Iterable[str]) -> LeadSummarizer:
         return self
@@ -165,7 +163,7 @@ class LeadSummarizer:
 
 
 @dataclass
-class TfidfSummarizer:
+class TfidfSummarizer(ParamsFromFields):
     """Sentences ranked by TF-IDF similarity to their whole document.
 
     Weights follow Salton & Buckley (1988) as scikit-learn's ``TfidfVectorizer``
@@ -185,15 +183,6 @@ class TfidfSummarizer:
     stop_words: str | None = "english"
     sublinear_tf: bool = False
     name: str = field(default="tfidf", init=False)
-
-    def get_params(self) -> dict:
-        return {
-            "budget": self.budget.as_dict(),
-            "min_words": self.min_words,
-            "mmr_lambda": self.mmr_lambda,
-            "stop_words": self.stop_words,
-            "sublinear_tf": self.sublinear_tf,
-        }
 
     def fit(self, texts: Iterable[str]) -> TfidfSummarizer:
         """Fit IDF over the archive: one entry of ``texts`` per document (streamed once)."""
@@ -230,7 +219,7 @@ class TfidfSummarizer:
 
 
 @dataclass
-class TextRankSummarizer:
+class TextRankSummarizer(ParamsFromFields):
     """TextRank (Mihalcea & Tarau 2004): PageRank over a sentence-similarity graph.
 
     Edge weight between sentences ``i`` and ``j`` (``similarity="overlap"``, the
@@ -241,7 +230,9 @@ class TextRankSummarizer:
     graph is symmetrised), so memory grows with ``n·k``, not ``n²``. Scores are the
     weighted PageRank (Brin & Page 1998) with damping ``d = 0.85``:
     ``PR(i) = (1 − d)/n + d · Σ_j PR(j) · w_ji / Σ_k w_jk``, nodes without edges
-    spreading their rank uniformly. With ``mmr_lambda`` set, MMR reorders the ranking.
+    spreading their rank uniformly, iterated until the change falls below
+    ``tolerance`` or for ``max_iterations`` rounds (both are parameters: a looser
+    tolerance can reorder close scores). With ``mmr_lambda`` set, MMR reorders the ranking.
     """
 
     budget: Budget = DEFAULT_BUDGET
@@ -253,16 +244,6 @@ class TextRankSummarizer:
     tolerance: float = 1e-10
     max_iterations: int = 200
     name: str = field(default="textrank", init=False)
-
-    def get_params(self) -> dict:
-        return {
-            "budget": self.budget.as_dict(),
-            "min_words": self.min_words,
-            "damping": self.damping,
-            "similarity": self.similarity,
-            "top_k": self.top_k,
-            "mmr_lambda": self.mmr_lambda,
-        }
 
     def fit(self, texts: Iterable[str]) -> TextRankSummarizer:
         return self
@@ -308,9 +289,3 @@ class TextRankSummarizer:
         chosen = self.budget.select(ranked, words)
         return build_summary(self.name, self.get_params(), document, segmentation, chosen, scores, started)
 
-
-EXTRACTIVE_METHODS = {
-    "lead": LeadSummarizer,
-    "tfidf": TfidfSummarizer,
-    "textrank": TextRankSummarizer,
-}

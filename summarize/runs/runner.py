@@ -34,7 +34,8 @@ from store.records import Document, param_hash
 from store.runs import recorded_run
 from store.store import Store
 from summarize.methods.budget import Budget
-from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
+from summarize.methods.contract import BatchCapable, NeedsLoading, ResolvedAtRunTime, SkipsDocuments
+from summarize.methods.registry import DEFAULT_BUDGET, RUNNABLE, MethodSettings, build_method, check_names
 from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, archive_files, iter_archive
 from summarize.reading.sentences import SentenceSplitter
@@ -51,9 +52,7 @@ EXIT_FAILED = 1
 EXIT_SOME_FILES_FAILED = 3
 EXIT_STOPPED_EARLY = 4
 
-# Methods settled once the archive is read (summarize/method_choice.py).
-RUN_TIME_METHOD_NAMES = ("house-style", "auto")
-METHOD_NAMES = (*EXTRACTIVE_METHODS, "seq2seq", *RUN_TIME_METHOD_NAMES)
+METHOD_NAMES = RUNNABLE
 
 
 @dataclass
@@ -119,27 +118,10 @@ def build_methods(
     mmr_lambda: float | None = None,
     seq2seq_options: dict | None = None,
 ) -> list:
-    """Instantiate the named methods with a shared budget. ``seq2seq`` takes its
-    model and generation settings from ``seq2seq_options``."""
-    methods = []
-    for name in names:
-        if name == "seq2seq":
-            from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
-
-            methods.append(Seq2SeqSummarizer(**(seq2seq_options or {})))
-            continue
-        if name in RUN_TIME_METHOD_NAMES:
-            from summarize.methods.learned.method_choice import RUN_TIME_METHODS
-
-            methods.append(RUN_TIME_METHODS[name](budget=budget, mmr_lambda=mmr_lambda))
-            continue
-        if name not in EXTRACTIVE_METHODS:
-            raise ValueError(f"unknown method {name!r} (known: {', '.join(METHOD_NAMES)})")
-        kwargs = {"budget": budget}
-        if name in ("tfidf", "textrank"):
-            kwargs["mmr_lambda"] = mmr_lambda
-        methods.append(EXTRACTIVE_METHODS[name](**kwargs))
-    return methods
+    """The named methods (from the registry) with a shared budget; ``seq2seq`` takes
+    its model and generation settings from ``seq2seq_options``."""
+    settings = MethodSettings(budget=budget, mmr_lambda=mmr_lambda, seq2seq=seq2seq_options or {})
+    return [build_method(name, settings, usable=RUNNABLE) for name in check_names(list(names), RUNNABLE)]
 
 
 def _under(record_key: str, roots: list[str]) -> bool:
@@ -289,14 +271,14 @@ def run_archive(
     active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
     # A model that cannot be loaded stops the run here, before the store is touched.
     for method in active:
-        if hasattr(method, "load"):
+        if isinstance(method, NeedsLoading):
             method.load()
     if scheduler:
         check_scheduler(scheduler)
     config = {
         "paths": paths,
         "methods": {m.name: m.get_params() for m in active},
-        "runtime": {m.name: m.runtime_settings() for m in active if hasattr(m, "runtime_settings")},
+        "runtime": {m.name: m.runtime_settings() for m in active if isinstance(m, NeedsLoading)},
         "record_fields": asdict(fields),
         "sentences": (splitter or DEFAULT_SPLITTER).get_params(),
         "read_limits": asdict(limits),
@@ -366,12 +348,12 @@ def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: d
     """Methods that depend on the store (a trained model, a choice by held-out ROUGE)
     become concrete once the archive is read; the run's configuration records what
     each became and why."""
-    deferred = [method for method in active if hasattr(method, "resolve")]
+    deferred = [method for method in active if isinstance(method, ResolvedAtRunTime)]
     if not deferred:
         return active
     resolved: list = []
     for method in active:
-        concrete = method.resolve(store, run_id, progress.message) if hasattr(method, "resolve") else method
+        concrete = method.resolve(store, run_id, progress.message) if isinstance(method, ResolvedAtRunTime) else method
         if not any(m.name == concrete.name and m.get_params() == concrete.get_params() for m in resolved):
             resolved.append(concrete)
     config["decisions"] = {method.name: method.decision for method in deferred}
@@ -395,7 +377,7 @@ def _pending(
             method.name
             for method in active
             if document_id not in done[method.name]
-            and document_id not in getattr(method, "exclude_document_ids", ())
+            and not (isinstance(method, SkipsDocuments) and document_id in method.skipped_document_ids)
         }
         if report is not None:
             report.summaries_skipped += len(active) - len(names)
@@ -414,8 +396,8 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     for method in active:
         method.fit(store.documents.texts(document_ids))
     # Methods that generate in batches (seq2seq) run in this process, after the others.
-    batched = [m for m in active if hasattr(m, "summarize_many")]
-    per_document = [m for m in active if not hasattr(m, "summarize_many")]
+    batched = [m for m in active if isinstance(m, BatchCapable)]
+    per_document = [m for m in active if not isinstance(m, BatchCapable)]
     per_document_names = {m.name for m in per_document}
     progress.start(len(todo), "documents summarized")
 
@@ -437,7 +419,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
             finished(document_id, {name for name, _ in outcomes})
     for method in batched:
         wanted = [d for d, names in todo.items() if method.name in names]
-        size = getattr(method, "batch_documents", 16)
+        size = method.batch_documents
         for start in range(0, len(wanted), size):
             if stop.reason():
                 break

@@ -20,6 +20,7 @@ from store.records import Document, Segmentation, Summary
 from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.oracle import OracleSummarizer
 from summarize.methods.budget import Budget, count_words
+from summarize.methods.contract import ParamsFromFields
 from summarize.methods.extractive import (
     DEFAULT_BUDGET,
     CosineRows,
@@ -43,7 +44,7 @@ Example = tuple[Document, Segmentation]
 
 
 @dataclass
-class HouseStyleSummarizer:
+class HouseStyleSummarizer(ParamsFromFields):
     """Supervised sentence scoring with selection under the budget.
 
     Training (``fit``): for every document with a reference summary, each candidate
@@ -82,15 +83,6 @@ class HouseStyleSummarizer:
     mmr_lambda: float | None = None
     seed: int = 0
     name: str = field(default="house-style", init=False)
-
-    def get_params(self) -> dict:
-        return {
-            "budget": self.budget.as_dict(),
-            "min_words": self.min_words,
-            "model": self.model,
-            "mmr_lambda": self.mmr_lambda,
-            "seed": self.seed,
-        }
 
     # training -----------------------------------------------------------------------
 

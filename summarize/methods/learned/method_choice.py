@@ -18,7 +18,8 @@ from dataclasses import asdict, dataclass, field
 from store.runs import recorded_run
 from store.store import Store
 from summarize.methods.budget import Budget
-from summarize.methods.extractive import DEFAULT_BUDGET, EXTRACTIVE_METHODS
+from summarize.methods.contract import ParamsFromFields, ResolvedAtRunTime, SkipsDocuments
+from summarize.methods.extractive import DEFAULT_BUDGET
 from summarize.methods.learned.house_style import TRUSTED_TYPES, HouseStyleSummarizer
 from summarize.methods.learned.sentence_features import FEATURE_NAMES
 from summarize.methods.learned.training import (
@@ -30,6 +31,7 @@ from summarize.methods.learned.training import (
     train_in_store,
     usable_folds,
 )
+from summarize.methods.registry import MethodSettings, build_method
 
 LEARNED = "house-style"
 
@@ -52,7 +54,7 @@ class Decision:
 
 
 @dataclass
-class PretrainedMethod:
+class PretrainedMethod(SkipsDocuments):
     """A trained method as a run uses it: the run's archive-wide ``fit`` leaves the
     model as trained, ``trained_model`` in the params ties each summary to the stored
     model, and the documents it was trained on are left out — they have a human
@@ -65,6 +67,10 @@ class PretrainedMethod:
     @property
     def name(self) -> str:
         return self.method.name
+
+    @property
+    def skipped_document_ids(self) -> frozenset[int]:
+        return self.exclude_document_ids
 
     def get_params(self) -> dict:
         return {**self.method.get_params(), "trained_model": self.model_id}
@@ -79,10 +85,7 @@ class PretrainedMethod:
 
 
 def _fixed_method(name: str, budget: Budget, mmr_lambda: float | None):
-    kwargs = {"budget": budget}
-    if name in ("tfidf", "textrank"):
-        kwargs["mmr_lambda"] = mmr_lambda
-    return EXTRACTIVE_METHODS[name](**kwargs)
+    return build_method(name, MethodSettings(budget=budget, mmr_lambda=mmr_lambda))
 
 
 def _best(scores: dict[str, float], order: tuple[str, ...]) -> str:
@@ -136,7 +139,7 @@ def _pretrained(store: Store, budget: Budget, mmr_lambda: float | None) -> Pretr
 
 
 @dataclass
-class HouseStyleForRun:
+class HouseStyleForRun(ParamsFromFields, ResolvedAtRunTime):
     """``--methods house-style`` before the run has read the archive: resolves to the
     latest model stored for the method, trained on the store's referenced documents
     first when there is none (or when it expects other features)."""
@@ -145,11 +148,8 @@ class HouseStyleForRun:
     mmr_lambda: float | None = None
     folds: int = 5
     seed: int = 0
+    model: str = field(default="latest stored; trained from the referenced documents when none", init=False)
     name: str = field(default=LEARNED, init=False)
-
-    def get_params(self) -> dict:
-        return {"budget": self.budget.as_dict(), "mmr_lambda": self.mmr_lambda, "folds": self.folds,
-                "seed": self.seed, "model": "latest stored; trained from the referenced documents when none"}
 
     def resolve(self, store: Store, run_id: int, say: Callable[[str], None] | None = None):
         stored = store.models.latest(LEARNED)
@@ -169,7 +169,7 @@ class HouseStyleForRun:
 
 
 @dataclass
-class AutoForRun:
+class AutoForRun(ParamsFromFields, ResolvedAtRunTime):
     """``--methods auto``: the best method by held-out ROUGE (see :data:`SELECTION_RULE`)
     among lead, TF-IDF, TextRank and house-style on the store's referenced
     documents, applied to the run at its own budget."""
@@ -178,11 +178,8 @@ class AutoForRun:
     mmr_lambda: float | None = None
     folds: int = 5
     seed: int = 0
+    selection_rule: str = field(default=SELECTION_RULE, init=False)
     name: str = field(default="auto", init=False)
-
-    def get_params(self) -> dict:
-        return {"budget": self.budget.as_dict(), "mmr_lambda": self.mmr_lambda, "folds": self.folds,
-                "seed": self.seed, "selection_rule": SELECTION_RULE}
 
     def resolve(self, store: Store, run_id: int, say: Callable[[str], None] | None = None):
         decision = choose_in_store(store, run_id, self.folds, self.seed, say)

@@ -27,12 +27,13 @@ from store.learned_models import SKOPS
 from store.records import param_hash
 from store.runs import recorded_run
 from store.store import Store
-from summarize.evaluation.matched import SUMMARIZERS, MatchedBudget, add_matched_summaries
+from summarize.evaluation.matched import MatchedBudget, add_matched_summaries
 from summarize.evaluation.rouge import RougeMetric
 from summarize.evaluation.scoring import score_unscored
 from summarize.methods.learned.held_out import CrossValidation
 from summarize.methods.learned.house_style import HouseStyleSummarizer
 from summarize.methods.learned.sentence_features import FEATURE_NAMES
+from summarize.methods.registry import MATCHED, MethodSettings, build_method
 
 MIN_REFERENCED_DOCUMENTS = 20
 MIN_TEST_DOCUMENTS_PER_FOLD = 4
@@ -79,7 +80,7 @@ class TrainingReport:
 def matched_params(name: str, reference: str, budget: MatchedBudget = MatchedBudget()) -> dict:
     """Params of a fixed method's summary at the matched budget, as the evaluation
     code (:func:`~summarize.evaluation.matched.add_matched_summaries`) stores them."""
-    return budget.tagged(SUMMARIZERS[name](budget=budget.budget_for(reference)).get_params())
+    return budget.tagged(build_method(name, MethodSettings(budget=budget.budget_for(reference)), MATCHED).get_params())
 
 
 def held_out_means(

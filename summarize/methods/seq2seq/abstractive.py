@@ -36,6 +36,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from store.records import Document, Segmentation, Summary, SummarySentence
+from summarize.methods.contract import BatchCapable, NeedsLoading, runtime_only
 from summarize.methods.extractive import TfidfSummarizer
 from summarize.methods.seq2seq.faithfulness import unsupported_facts
 from summarize.methods.seq2seq.models import Checkpoint, load_checkpoint
@@ -81,7 +82,7 @@ class _Plan:
 
 
 @dataclass
-class Seq2SeqSummarizer:
+class Seq2SeqSummarizer(NeedsLoading, BatchCapable):
     """Abstractive summaries from a local encoder-decoder checkpoint (see module doc).
 
     ``model`` is a checkpoint directory or a repository id already in the local
@@ -90,7 +91,7 @@ class Seq2SeqSummarizer:
 
     model: str
     profile: str = "quality"
-    allow_pickle: bool = False
+    allow_pickle: bool = runtime_only(False)
     num_beams: int | None = None
     min_new_tokens: int | None = None
     max_new_tokens: int | None = None
@@ -98,8 +99,8 @@ class Seq2SeqSummarizer:
     length_penalty: float | None = None
     early_stopping: bool | None = None
     quantize: bool | None = None
-    batch_size: int | None = None
-    threads: int | None = None
+    batch_size: int | None = runtime_only()
+    threads: int | None = runtime_only()
     max_input_tokens: int | None = None
     long_mode: str = "select"
     prefix: str | None = None
@@ -164,7 +165,9 @@ class Seq2SeqSummarizer:
     def get_params(self) -> dict:
         """Everything that shapes the output: model identity (content hashes, not the
         path, so a moved checkpoint is the same model), prefix, window, generation
-        settings, quantization, provenance settings."""
+        settings, quantization, provenance settings. These are the settled values of the
+        parameter fields (every field but the runtime-only ones), so two spellings of the
+        same settings share their stored summaries."""
         self.load()
         return {
             "model": self.checkpoint_.identity,
