@@ -1,6 +1,6 @@
 """The house-style method on all of ACLSum, held out: the README's table.
 
-    python -m bench.learned_aclsum [--folds 5] [--model gradient-boosting] [--db store.sqlite] [--out table.md]
+    python -m bench.learned_aclsum [--folds 5] [--classifier gradient-boosting] [--db store.sqlite] [--out table.md]
 
 ACLSum (Takeshita et al. 2024; the ``aclsum`` package, MIT licence): 250 papers, each
 body without its abstract, the author abstract as the reference. Every paper gets a
@@ -24,7 +24,7 @@ from pathlib import Path
 from store.runs import recorded_run
 from summarize.evaluation.bootstrap import PercentileBootstrap
 from summarize.evaluation.compare import compare
-from summarize.methods.learned.house_style import MODELS, HouseStyleSummarizer
+from summarize.methods.learned.house_style import CLASSIFIERS, HouseStyleSummarizer
 from summarize.methods.learned.training import FIXED_METHODS, train_in_store
 from summarize.output.caution import CAUTION
 from summarize.reading.datasets import load_aclsum
@@ -71,16 +71,16 @@ def markdown_tables(systems: dict, folds: int, resamples: int, seed: int) -> str
     return "\n".join(lines)
 
 
-def run(db_path: str, folds: int, model: str, resamples: int, seed: int) -> str:
+def run(db_path: str, folds: int, classifier: str, resamples: int, seed: int) -> str:
     timings = {}
     started = time.perf_counter()
-    with recorded_run(db_path, "bench", {"dataset": "ACLSum", "folds": folds, "model": model}) as run:
+    with recorded_run(db_path, "bench", {"dataset": "ACLSum", "folds": folds, "classifier": classifier}) as run:
         if not run.store.documents.count():
             for document in load_aclsum():
                 run.store.add_document(document, split_document(document), run.run_id)
         timings["load, split and store"] = time.perf_counter() - started
         started = time.perf_counter()
-        report = train_in_store(run.store, run.run_id, HouseStyleSummarizer(model=model, seed=seed), folds)
+        report = train_in_store(run.store, run.run_id, HouseStyleSummarizer(classifier=classifier, seed=seed), folds)
         run.counts = report.as_dict()
     timings["cross-validate, summarize at matched budget, score, train"] = time.perf_counter() - started
     started = time.perf_counter()
@@ -95,7 +95,7 @@ def run(db_path: str, folds: int, model: str, resamples: int, seed: int) -> str:
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--folds", type=int, default=5)
-    parser.add_argument("--model", choices=MODELS, default="gradient-boosting")
+    parser.add_argument("--classifier", choices=CLASSIFIERS, default="gradient-boosting")
     parser.add_argument("--db", help="store to use (default: a temporary file)")
     parser.add_argument("--out", help="also write the Markdown to this file")
     parser.add_argument("--resamples", type=int, default=1000)
@@ -103,7 +103,7 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     with tempfile.TemporaryDirectory() as scratch:
         db_path = args.db or str(Path(scratch) / "learned_aclsum.sqlite")
-        text = run(db_path, args.folds, args.model, args.resamples, args.seed)
+        text = run(db_path, args.folds, args.classifier, args.resamples, args.seed)
     sys.stdout.write(text)
     if args.out:
         Path(args.out).write_text(text, encoding="utf-8")

@@ -36,7 +36,7 @@ from store.records import Document, Segmentation, Span
 from summarize.methods.extractive import TextRankSummarizer
 from summarize.reading.ingest import iter_archive
 from summarize.reading.split import split_document
-from summarize.runs.progress import Progress
+from summarize.runs.progress import TerminalProgress
 from summarize.runs.runner import run_archive
 
 DEMO_ARCHIVE = Path(__file__).resolve().parents[1] / "demo_archive"
@@ -65,7 +65,7 @@ def timed_run(archive: Path, db: Path, workers: int = 1, tries: int = 1) -> tupl
             old.unlink()
         gc.collect()
         started = time.perf_counter()
-        report = run_archive([archive], str(db), workers=workers, progress=Progress(stream=io.StringIO()))
+        report = run_archive([archive], str(db), workers=workers, progress=TerminalProgress(stream=io.StringIO()))
         best = min(best, time.perf_counter() - started)
         if report.exit_status != 0 or report.documents_remaining:
             raise RuntimeError(f"benchmark run did not finish cleanly: {report.counts()}")

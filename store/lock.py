@@ -25,14 +25,14 @@ from datetime import UTC, datetime
 
 import psutil
 
-from store.errors import StoreReadOnly
+from store.errors import StoreReadOnly, SummarizerError
 
 # Record locks do not exclude within one process, so the paths this process holds
 # are remembered here.
 _HELD_HERE: set[str] = set()
 
 
-class StoreLocked(RuntimeError):
+class StoreLocked(SummarizerError, RuntimeError):
     """Another process holds the store's lock."""
 
 

@@ -9,6 +9,7 @@ import os
 import sqlite_utils
 
 from store.aspect_summaries import AspectSummaries
+from store.errors import SummarizerError
 from store.reference_history import reference_history
 from store.references import References
 from store.search import ParsedQuery
@@ -23,7 +24,7 @@ from store.search_queries import (
 from store.summary_details import load_summary_details
 
 
-class DocumentNotFound(LookupError):
+class DocumentNotFound(SummarizerError, LookupError):
     pass
 
 

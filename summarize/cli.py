@@ -1,7 +1,9 @@
-"""The ``summarize`` command: a thin layer over the Python API.
+"""The ``summarize`` command: a thin layer over the Python API (``summarize.api``).
 
-Each command parses its arguments, calls one library function of the same name, and
+Each command parses its arguments, calls the API function of the same name, and
 prints: progress and errors on stderr, results on stdout (``--json`` for machines).
+Only :class:`~store.errors.SummarizerError` is caught, shown as one ``error:`` line
+and turned into its exit status; anything else is a bug and shows as one.
 """
 
 from __future__ import annotations
@@ -9,53 +11,36 @@ from __future__ import annotations
 import math
 import sys
 import textwrap
-from pathlib import Path
 
 import click
 
-from store.errors import SummarizerError
+from store.errors import SummarizerError, UsageError
 from store.health import sqlite_failure
-from store.lock import StoreLocked
 from store.printable import printable, terminal_text
-from store.queries import DocumentNotFound
-from store.search import parse_query
 from store.search_queries import MARK_END, MARK_START
-from store.store import Store
-from summarize.methods.budget import Budget
-from summarize.methods.seq2seq.models import ModelLoadError
+from summarize import api
+from summarize.methods.budget import GRAMMAR
+from summarize.methods.registry import MATCHED
 from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 from summarize.output.export import FORMATS
-from summarize.output.export import export as export_summaries
 from summarize.reading.exclusions import BadExcludePattern, check_patterns
-from summarize.reading.ingest import ReadLimits, RecordFields
+from summarize.reading.ingest import ReadLimits
 from summarize.reading.limits import MIB
 from summarize.reading.sentences import SentenceSplitter
 from summarize.runs.jobfile import load_job
-from summarize.runs.progress import Progress, configure_log_file
+from summarize.runs.progress import TerminalProgress, configure_log_file
 from summarize.runs.progress import log as run_log
-from summarize.runs.runner import EXIT_FAILED, EXIT_STOPPED_EARLY, run_archive
-from summarize.runs.stopping import StopConditions, parse_until
+from summarize.runs.settings import RunSettings
+
+# Exit statuses (the README's table lists them for every command).
+EXIT_STOPPED_EARLY = 4
 
 
-def _fail(message: str, status: int = EXIT_FAILED) -> None:
-    click.echo(f"error: {printable(message)}", err=True)
-    sys.exit(status)
-
-
-def _existing(db_path: str) -> str:
-    if not Path(db_path).exists():
-        _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
-    return db_path
-
-
-def _open_existing(db_path: str) -> Store:
-    return Store(_existing(db_path), read_only=True)
-
-
-class _OneLineErrors(click.Group):
-    """Problems the user can act on end a command with one line on stderr, never a
-    traceback; SQLite's own errors are named for the store the command was given."""
+class _Commands(click.Group):
+    """The command group: a :class:`SummarizerError` from any command becomes one
+    ``error:`` line on stderr and the error's exit status; SQLite's own errors are
+    named for the store the command was given. Anything else is a bug and shows as one."""
 
     def parse_args(self, ctx, args):
         ctx.meta["arguments"] = list(args)
@@ -65,14 +50,18 @@ class _OneLineErrors(click.Group):
         try:
             return super().invoke(ctx)
         except SummarizerError as error:
-            click.echo(f"error: {printable(str(error))}", err=True)
-            sys.exit(error.exit_status)
+            self._fail(ctx, error)
         except Exception as error:
             translated = sqlite_failure(error, _store_argument(ctx))
             if translated is None:
                 raise
-            click.echo(f"error: {printable(str(translated))}", err=True)
-            sys.exit(translated.exit_status)
+            self._fail(ctx, translated)
+
+    @staticmethod
+    def _fail(ctx, error: SummarizerError) -> None:
+        run_log.error(str(error))
+        click.echo(f"error: {printable(str(error))}", err=True)
+        ctx.exit(error.exit_status)
 
 
 def _store_argument(ctx) -> str:
@@ -86,14 +75,32 @@ def _store_argument(ctx) -> str:
     return "the store"
 
 
-def _budget(_ctx, _param, value: str) -> Budget:
-    try:
-        return Budget.parse(value)
-    except ValueError as error:
-        raise click.BadParameter(str(error)) from None
+# Options several commands share, defined once.
+def db_option(help_text: str = "The SQLite store.", required: bool = True):
+    return click.option("--db", "db_path", required=required, type=click.Path(dir_okay=False), help=help_text)
 
 
-@click.group(cls=_OneLineErrors, context_settings={"help_option_names": ["-h", "--help"]})
+json_option = click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+wait_lock_option = click.option(
+    "--wait-lock", type=click.FloatRange(0), default=None, show_default="0",
+    help="Seconds to wait for another run holding the store, instead of refusing at once.",
+)
+
+
+def seed_option(help_text: str):
+    return click.option("--seed", type=int, default=0, show_default=True, help=help_text)
+
+
+def budget_option(default: str | None, purpose: str):
+    shown = {"show_default": True} if default is not None else {}
+    return click.option("--budget", default=default, **shown, help=f"{purpose} Budget grammar: {GRAMMAR}.")
+
+
+def _methods(value: str | None) -> tuple[str, ...] | None:
+    return None if value is None else tuple(m.strip() for m in value.split(",") if m.strip())
+
+
+@click.group(cls=_Commands, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="archive-summarizer")
 def main() -> None:
     """Summarize document archives in batch and keep everything in one SQLite file.
@@ -104,20 +111,14 @@ def main() -> None:
     """
 
 
-def _load_job_defaults(ctx, _param, value):
-    """--job FILE: settings from a TOML job file become the defaults of `run`."""
-    if not value:
-        return None
-    try:
-        job = load_job(value)
-    except ValueError as error:
-        raise click.BadParameter(str(error)) from None
-    ctx.default_map = {
-        **(ctx.default_map or {}),
-        **{k: v for k, v in job.items() if k not in ("paths", "seq2seq", "aspects", "exclude")},
-    }
-    ctx.meta["job"] = job
+def _load_job(ctx, _param, value):
+    """--job FILE: the run's settings from a TOML job file; flags given override them."""
+    if value:
+        ctx.meta["job"] = load_job(value)
     return value
+
+
+_DEFAULTS = RunSettings()
 
 
 # Read limits and link policy of `run` (summarize/reading/limits.py), in one block.
@@ -158,33 +159,35 @@ def _read_limits(options: dict) -> ReadLimits:
     )
 
 
+
+
 @main.command()
+@_read_limit_options
 @click.argument("paths", nargs=-1, type=click.Path())
-@click.option("--job", type=click.Path(dir_okay=False), callback=_load_job_defaults, is_eager=True, expose_value=False,
+@click.option("--job", type=click.Path(dir_okay=False), callback=_load_job, is_eager=True, expose_value=False,
               help="TOML job file with the run's settings; flags given here override it.")
-@click.option("--db", "db", type=click.Path(dir_okay=False), help="SQLite store (created if missing).")
-@click.option("--methods", default="lead,tfidf,textrank", show_default=True,
+@db_option("SQLite store (created if missing).", required=False)
+@click.option("--methods", default=None, show_default=",".join(_DEFAULTS.methods),
               help="Comma-separated methods: lead, tfidf, textrank, seq2seq; house-style (trained on the archive's "
                    "reference summaries; see `summarize train`); auto (the best of these by held-out ROUGE).")
-@click.option("--budget", default="3", show_default=True, callback=_budget,
-              help="Summary length: '3' sentences, '80w' words or '10%' of the document.")
+@budget_option(None, f"Summary length (default {_DEFAULTS.budget}).")
 @click.option("--mmr", type=click.FloatRange(0, 1), default=None,
               help="MMR redundancy control for tfidf/textrank: λ in [0, 1] (1 = relevance only).")
-@click.option("--workers", default=1, show_default=True, type=click.IntRange(1),
+@click.option("--workers", default=None, type=click.IntRange(1), show_default=str(_DEFAULTS.workers),
               help="Local worker processes for the per-document work (the store has one writer).")
 @click.option("--scheduler", default=None, help="Address of a Dask scheduler (tcp://HOST:PORT) to send the work to.")
 @click.option("--until", default=None, help="Stop cleanly between documents at this local time (HH:MM).")
 @click.option("--max-minutes", default=None, type=click.FloatRange(0, min_open=True), help="Stop cleanly after this many minutes.")
-@click.option("--wait-lock", default=0.0, type=click.FloatRange(0), show_default=True,
-              help="Seconds to wait for another run holding the store, instead of refusing at once.")
+@wait_lock_option
 @click.option("--log", default=None, type=click.Path(dir_okay=False), help="Also append progress and errors to this file.")
 @click.option("--quiet", is_flag=True, help="Only errors on stderr.")
-@click.option("--text-field", default="text", show_default=True, help="JSON/JSONL field holding the text.")
-@click.option("--title-field", default="title", show_default=True, help="JSON/JSONL field holding the title.")
-@click.option("--summary-field", default="summary", show_default=True, help="JSON/JSONL field holding the reference summary.")
-@click.option("--date-field", default="date", show_default=True, help="JSON/JSONL field holding the date.")
-@click.option("--id-field", default="id", show_default=True, help="JSON/JSONL field identifying a record.")
-@click.option("--json", "as_json", is_flag=True, help="Print the run report as JSON.")
+@click.option("--text-field", default=None, show_default=_DEFAULTS.text_field, help="JSON/JSONL field holding the text.")
+@click.option("--title-field", default=None, show_default=_DEFAULTS.title_field, help="JSON/JSONL field holding the title.")
+@click.option("--summary-field", default=None, show_default=_DEFAULTS.summary_field,
+              help="JSON/JSONL field holding the reference summary.")
+@click.option("--date-field", default=None, show_default=_DEFAULTS.date_field, help="JSON/JSONL field holding the date.")
+@click.option("--id-field", default=None, show_default=_DEFAULTS.id_field, help="JSON/JSONL field identifying a record.")
+@json_option
 @click.option("--exclude", "exclude", multiple=True, metavar="PATTERN",
               help="Leave out paths matching PATTERN (repeatable; added to the job file's and the archive's "
                    ".summarize-exclude patterns): 'drafts', '*.tmp', 'scans/2019', '**/raw/'.")
@@ -206,9 +209,8 @@ def _read_limits(options: dict) -> ReadLimits:
               help="seq2seq: input window in tokens (default: the model's own).")
 @click.option("--long-mode", type=click.Choice(["select", "chunks"]), default=None,
               help="seq2seq: read the most salient sentences that fit (select, default) or the whole document in chunks.")
-@_read_limit_options
 @click.pass_context
-def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
+def run(ctx, paths, db_path, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
         text_field, title_field, summary_field, date_field, id_field, as_json, exclude, strict_exit, abbreviation, model,
         allow_pickle_weights, seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode,
         **read_options):
@@ -216,24 +218,18 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
 
     A rerun does only what is missing. Exit status: 0 all done (files that failed
     before with unchanged content are listed as known failures, not counted); 1
-    nothing could be done (bad option, store locked or unusable); 3 finished, but
-    some files or summaries failed anew (listed on stderr and in the store); 4
-    stopped early by the time budget or a signal (rerun to finish).
+    nothing could be done (store locked or unusable, model unusable); 2 bad command
+    line or job file; 3 finished, but some files or summaries failed anew (listed on
+    stderr and in the store); 4 stopped early by the time budget or a signal (rerun to finish).
     """
     job = ctx.meta.get("job", {})
     paths = list(paths) or job.get("paths", [])
+    db_path = db_path or job.get("db")
     if not paths:
-        raise click.UsageError("give at least one PATH (or a --job file with paths)")
-    if not db:
-        raise click.UsageError("--db is required (or a --job file with db)")
-    try:
-        exclude = check_patterns([*job.get("exclude", []), *exclude])
-    except BadExcludePattern as error:
-        raise click.BadParameter(str(error), param_hint="--exclude") from None
-    configure_log_file(log)
-    fields = RecordFields(text=text_field, title=title_field, summary=summary_field, date=date_field, id=id_field)
-    method_names = [m.strip() for m in methods.split(",") if m.strip()]
-    given = {
+        raise UsageError("give at least one PATH (or a --job file with paths)")
+    if not db_path:
+        raise UsageError("--db is required (or a --job file with db)")
+    given_seq2seq = {
         "model": model,
         "allow_pickle": allow_pickle_weights or None,
         "profile": seq2seq_profile,
@@ -243,31 +239,25 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
         "max_input_tokens": max_input_tokens,
         "long_mode": long_mode,
     }
-    seq2seq_options = _seq2seq_options(job.get("seq2seq", {}), given, method_names)
+    settings = RunSettings.from_job(job).with_changes(
+        methods=_methods(methods), budget=budget, mmr=mmr, workers=workers, scheduler=scheduler, until=until,
+        max_minutes=max_minutes, wait_lock=wait_lock, text_field=text_field, title_field=title_field,
+        summary_field=summary_field, date_field=date_field, id_field=id_field,
+    )
+    settings = settings.with_changes(
+        seq2seq={**settings.seq2seq, **{key: value for key, value in given_seq2seq.items() if value is not None}}
+    ).check()
     try:
-        stop = StopConditions(until=parse_until(until) if until else None, max_minutes=max_minutes)
-        report = run_archive(
-            paths,
-            db,
-            methods=method_names,
-            budget=budget,
-            mmr_lambda=mmr,
-            fields=fields,
-            seq2seq_options=seq2seq_options,
-            workers=workers,
-            scheduler=scheduler,
-            stop=stop,
-            lock_wait_seconds=wait_lock,
-            progress=Progress(quiet=quiet),
-            limits=_read_limits(read_options),
-            follow_links_outside=read_options["follow_links_outside"],
-            exclude=exclude,
-            strict_exit=bool(strict_exit),
-            splitter=SentenceSplitter(abbreviations=tuple(abbreviation)),
-        )
-    except (ValueError, StoreLocked, RuntimeError, ModelLoadError) as error:
-        run_log.error(str(error))
-        _fail(str(error))
+        exclude = check_patterns([*job.get("exclude", []), *exclude])
+    except BadExcludePattern as error:
+        raise UsageError(f"--exclude: {error}") from None
+    strict_exit = bool(strict_exit if strict_exit is not None else job.get("strict_exit", False))
+    configure_log_file(log or job.get("log"))
+    try:
+        report = api.run(paths, db_path, settings, progress=TerminalProgress(quiet=quiet),
+                         limits=_read_limits(read_options), follow_links_outside=read_options["follow_links_outside"],
+                         exclude=exclude, strict_exit=strict_exit,
+                         splitter=SentenceSplitter(abbreviations=tuple(abbreviation)))
     except KeyboardInterrupt:  # a second Ctrl-C: every finished document is already committed
         click.echo("interrupted; rerun the same command to finish", err=True)
         sys.exit(EXIT_STOPPED_EARLY)
@@ -286,26 +276,6 @@ def run(ctx, paths, db, methods, budget, mmr, workers, scheduler, until, max_min
     sys.exit(report.exit_status)
 
 
-def _seq2seq_options(from_job: dict, given: dict, method_names: list[str]) -> dict:
-    """The job file's [seq2seq] settings with the flags given on top, checked."""
-    options = {**from_job, **{key: value for key, value in given.items() if value is not None}}
-    if given["model"] and "seq2seq" not in method_names:
-        raise click.UsageError("--model is for the seq2seq method: add seq2seq to --methods")
-    if "seq2seq" not in method_names:
-        return options
-    if not options.get("model"):
-        raise click.UsageError("the seq2seq method needs --model DIR (or model in the job file's [seq2seq] table)")
-    from dataclasses import fields
-
-    from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
-
-    known = {f.name for f in fields(Seq2SeqSummarizer) if f.init}
-    unknown = sorted(set(options) - known)
-    if unknown:
-        raise click.UsageError(f"unknown seq2seq setting(s) {', '.join(unknown)} (known: {', '.join(sorted(known))})")
-    return options
-
-
 @main.command("fetch-model")
 @click.argument("repo_id")
 @click.option("--dest", required=True, type=click.Path(file_okay=False), help="Directory to put the checkpoint in.")
@@ -315,14 +285,11 @@ def _seq2seq_options(from_job: dict, given: dict, method_names: list[str]) -> di
 def fetch_model(repo_id, dest, revision, allow_pickle_weights):
     """Copy checkpoint REPO_ID from the Hugging Face Hub into --dest (needs a network),
     then check that it loads. Runs use it with `--model DIR`, offline."""
-    from summarize.methods.seq2seq.fetch import CheckpointFetchError, fetch_checkpoint
+    from summarize.methods.seq2seq.fetch import fetch_checkpoint
     from summarize.methods.seq2seq.models import load_checkpoint
 
-    try:
-        path = fetch_checkpoint(repo_id, dest, allow_pickle=allow_pickle_weights, revision=revision)
-        checkpoint = load_checkpoint(path, allow_pickle=allow_pickle_weights)
-    except (CheckpointFetchError, ModelLoadError) as error:
-        _fail(str(error))
+    path = fetch_checkpoint(repo_id, dest, allow_pickle=allow_pickle_weights, revision=revision)
+    checkpoint = load_checkpoint(path, allow_pickle=allow_pickle_weights)
     identity = checkpoint.identity
     click.echo(
         f"fetched {repo_id} into {path}: {identity['model_type']}, {identity['parameters']:,} parameters, "
@@ -346,11 +313,11 @@ def _run_summary(run_id: int, counts: dict) -> str:
 
 @main.command()
 @click.argument("query")
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--method", default=None, help="Only documents summarized by this method (same as method:NAME).")
 @click.option("--limit", default=20, show_default=True, type=click.IntRange(1))
 @click.option("--offset", default=0, show_default=True, type=click.IntRange(0), help="Skip this many hits (paging).")
-@click.option("--json", "as_json", is_flag=True, help="Print hits as JSON.")
+@json_option
 def find(query, db_path, method, limit, offset, as_json):
     """Search document titles, text and summaries, one hit per document, best first.
 
@@ -358,12 +325,7 @@ def find(query, db_path, method, limit, offset, as_json):
     filters folder:NAME format:EXT from:DATE to:DATE status:STATUS method:NAME
     has:reference has:flags (see the README).
     """
-    try:
-        parsed = parse_query(query + (f" method:{method}" if method else ""))
-    except SummarizerError as error:
-        _fail(f"query {query!r}: {error}", error.exit_status)
-    with _open_existing(db_path) as store:
-        page = store.queries.search(parsed, offset=offset, limit=limit)
+    page = api.find(db_path, query, method=method, limit=limit, offset=offset)
     if as_json:
         hits = [
             {
@@ -399,6 +361,23 @@ def _bracketed(snippet: str | None) -> str | None:
 def _score_text(value: float | None) -> str:
     """A stored score; SQLite keeps NaN as NULL, and infinity is no score either."""
     return f"{value:.3f}" if isinstance(value, float) and math.isfinite(value) else "-"
+
+
+def _print_aspect_answers(answers: list[dict]) -> None:
+    """Each stored aspect answer: aspect, method, confidence, sentences with spans."""
+    if answers:
+        click.echo("\nAspect answers:")
+    for answer in answers:
+        aspect = answer["aspect"].replace("_", " ")
+        head = f"  {aspect}  ({answer['method']}, parameters {answer['param_hash']}, run {answer['run_id']})"
+        if not answer["addressed"]:
+            click.echo(f"{head}  not addressed in this document")
+            continue
+        click.echo(f"{head}  confidence {answer['confidence']:.2f}")
+        for sentence in answer["sentences"]:
+            click.echo(textwrap.fill(printable(sentence["text"]), 88,
+                                     initial_indent=f"    {sentence['position'] + 1}. ", subsequent_indent="       "))
+            click.echo(f"       from chars {sentence['start']}-{sentence['end']}")
 
 
 def _print_file_records(path: str, records: list[dict], as_json: bool) -> None:
@@ -445,7 +424,7 @@ def _print_document(record: dict, highlight: bool) -> None:
         )
     for summary in record["summaries"]:
         scores = "  ".join(f"{m} F1 {_score_text(v['f1'])}" for m, v in sorted(summary["scores"].items()))
-        click.echo(f"\n{summary['method']}  (parameters {summary['param_hash']}, run {summary['run_id']}){'  ' + scores if scores else ''}")
+        click.echo(f"\n{summary['setting']}  (run {summary['run_id']}){'  ' + scores if scores else ''}")
         for sentence in summary["sentences"]:
             click.echo(textwrap.fill(printable(sentence["text"]), 88, initial_indent=f"  {sentence['position'] + 1}. ", subsequent_indent="     "))
             for source in sentence["sources"]:
@@ -454,7 +433,7 @@ def _print_document(record: dict, highlight: bool) -> None:
         for flag in summary["flags"]:
             where = f" (sentence {flag['position'] + 1})" if flag["position"] is not None else ""
             click.echo(f"  ! check {flag['kind']}: {printable(flag['detail'])}{where}")
-    _print_aspect_answers(record["aspect_answers"])
+    _print_aspect_answers(record.get("aspect_answers", []))
     if highlight:
         text = record["text"]
         marks = sorted({(s["start"], s["end"]) for summary in record["summaries"] for sent in summary["sentences"] for s in sent["sources"]})
@@ -470,42 +449,22 @@ def _print_document(record: dict, highlight: bool) -> None:
     click.echo(f"\n{CAUTION}")
 
 
-def _print_aspect_answers(answers: list[dict]) -> None:
-    """Each stored aspect answer: aspect, method, confidence, sentences with spans."""
-    if answers:
-        click.echo("\nAspect answers:")
-    for answer in answers:
-        aspect = answer["aspect"].replace("_", " ")
-        head = f"  {aspect}  ({answer['method']}, parameters {answer['param_hash']}, run {answer['run_id']})"
-        if not answer["addressed"]:
-            click.echo(f"{head}  not addressed in this document")
-            continue
-        click.echo(f"{head}  confidence {answer['confidence']:.2f}")
-        for sentence in answer["sentences"]:
-            click.echo(textwrap.fill(printable(sentence["text"]), 88,
-                                     initial_indent=f"    {sentence['position'] + 1}. ", subsequent_indent="       "))
-            click.echo(f"       from chars {sentence['start']}-{sentence['end']}")
-
-
 @main.command()
 @click.argument("document")
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--method", default=None, help="Only this method's summaries and aspect answers.")
+@budget_option(None, "Only the summaries made at this budget.")
 @click.option("--highlight", is_flag=True, help="Also print the source text with summary sentences marked.")
-@click.option("--json", "as_json", is_flag=True, help="Print the record as JSON.")
-def show(document, db_path, method, highlight, as_json):
+@json_option
+def show(document, db_path, method, budget, highlight, as_json):
     """Show one DOCUMENT (id, record key, path or JSON record id): metadata, reference,
     summaries with their source spans, flags and scores, and its newest answer to each
     aspect. A JSON/JSONL file with several records lists them."""
-    store = _open_existing(db_path)
-    records = store.queries.file_records(document)
+    records = api.file_records(db_path, document)
     if len(records) > 1:
         _print_file_records(document, records, as_json)
         return
-    try:
-        record = store.queries.show(document, method=method)
-    except DocumentNotFound as error:
-        _fail(str(error))
+    record = api.show(db_path, document, method=method, budget=budget)
     if as_json:
         click.echo(strict_json.dumps(record, indent=2, ensure_ascii=False))
     else:
@@ -513,11 +472,11 @@ def show(document, db_path, method, highlight, as_json):
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--format", "fmt", required=True, type=click.Choice(FORMATS))
-@click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False))
+@click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False), help="File to write.")
 @click.option("--method", default=None, help="The method whose summaries to export (default: the one covering most documents).")
-@click.option("--budget", default=None, help="Its budget: '3', '80w', '10%' or 'reference' (matched).")
+@budget_option(None, "Its budget.")
 @click.option("--setting", default=None, help="The key of one stored setting, when a method has several at a budget.")
 @click.option("--every-summary", is_flag=True, help="Every stored summary instead: one row per summary.")
 @click.option("--methods", default=None, help="With --every-summary: only these comma-separated methods.")
@@ -525,21 +484,16 @@ def show(document, db_path, method, highlight, as_json):
 def export(db_path, fmt, out_path, method, budget, setting, every_summary, methods, include_missing):
     """Write stored summaries to a CSV, JSON Lines, Markdown or HTML file: one row per
     document for one method at one budget, unless --every-summary."""
-    statuses = ("active", "duplicate", "missing") if include_missing else None
-    chosen = [m.strip() for m in methods.split(",")] if methods and every_summary else None
-    try:
-        count, choice = export_summaries(
-            _existing(db_path), fmt, out_path, method=method, budget=budget, setting=setting,
-            every_summary=every_summary, methods=chosen, statuses=statuses,
-        )
-    except SummarizerError as error:
-        _fail(str(error), error.exit_status)
+    count, choice = api.export(
+        db_path, fmt, out_path, method=method, budget=budget, setting=setting, every_summary=every_summary,
+        methods=_methods(methods), include_missing=include_missing,
+    )
     what = f"{choice.label} (setting {choice.key})" if choice else "every stored summary"
     click.echo(f"wrote {count} rows to {out_path}: {what}")
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--port", default=0, show_default=True, type=click.IntRange(0, 65535), help="Port (0: a free one).")
 @click.option("--host", default="127.0.0.1", show_default=True,
               help="Address to listen on; anything but loopback lets other machines read the store.")
@@ -549,49 +503,30 @@ def review(db_path, port, host, allowed_hosts):
     """Serve a read-only review site for the store: search, each document beside its
     summaries with click-to-source highlighting, the comparison, CSV/JSON Lines
     downloads. Prints the address and serves until Ctrl-C."""
-    from summarize.output.site.server import ReviewServer
-
-    if not Path(db_path).exists():
-        _fail(f"{db_path}: no such store (create one with `summarize run PATH --db {db_path}`)")
     try:
-        ReviewServer(db_path, host=host, port=port, allowed_hosts=tuple(allowed_hosts)).serve(
-            lambda text: click.echo(text, err=True)
-        )
-    except SummarizerError as error:
-        _fail(str(error), error.exit_status)
-    except OSError as error:
-        _fail(f"cannot listen on {host}:{port}: {error.strerror or error}")
+        api.review(db_path, host=host, port=port, allowed_hosts=tuple(allowed_hosts),
+                   say=lambda text: click.echo(text, err=True))
     except KeyboardInterrupt:
         click.echo("stopped", err=True)
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
-@click.option("--budget", default="reference", show_default=True,
-              help="Matched budget: 'reference' (each reference's length in words) or a number of words.")
+@db_option()
+@budget_option("reference", "The budget every method gets.")
 @click.option("--methods", default="lead,tfidf,textrank,oracle", show_default=True,
-              help="Methods to summarize at the matched budget (oracle: upper bound; random: chance level).")
-@click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
-@click.option("--json", "as_json", is_flag=True, help="Print the outcome as JSON.")
+              help=f"Methods to summarize at that budget (known: {', '.join(MATCHED)}; oracle: upper bound; "
+                   "random: chance level).")
+@wait_lock_option
+@json_option
 def score(db_path, budget, methods, wait_lock, as_json):
     """Score stored summaries against the documents' reference summaries (ROUGE).
 
     First, for every document with a reference, each method summarizes it at the
-    matched budget, and the oracle is added at every budget already stored; then
-    every summary without scores is scored. A rerun scores only what is new.
+    budget, and the oracle is added at every budget already stored; then every
+    summary without scores is scored. A rerun scores only what is new.
     """
-    # The evaluation modules are imported by their commands only: scipy.stats and
-    # NLTK would add most of a second to the start of every other command.
-    from summarize.evaluation.scoring import score as score_summaries
-
-    _existing(db_path)
-    try:
-        outcome = score_summaries(
-            db_path, budget=budget, methods=[m.strip() for m in methods.split(",") if m.strip()],
-            lock_wait_seconds=wait_lock,
-        )
-    except (ValueError, StoreLocked) as error:
-        _fail(str(error))
+    outcome = api.score(db_path, budget=budget, methods=_methods(methods), wait_lock=wait_lock or 0.0,
+                        progress=TerminalProgress())
     if as_json:
         click.echo(strict_json.dumps(outcome.as_dict(), indent=2))
     else:
@@ -603,59 +538,46 @@ def score(db_path, budget, methods, wait_lock, as_json):
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
-@click.option("--budget", default="all", show_default=True,
-              help="Which budget to show: 'all', 'reference' (matched) or a number of words.")
+@db_option()
+@budget_option(api.ALL_BUDGETS, "Which budget to show ('all': every budget, one table each).")
 @click.option("--measure", type=click.Choice(("f1", "precision", "recall")), default="f1", show_default=True)
 @click.option("--resamples", type=click.IntRange(100), default=1000, show_default=True, help="Bootstrap resamples.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
-@click.option("--json", "as_json", is_flag=True, help="Print the comparison as JSON.")
+@seed_option("Bootstrap seed.")
+@json_option
 def compare(db_path, budget, measure, resamples, seed, as_json):
     """Compare methods on the stored scores: mean ROUGE per method with bootstrap
     intervals, paired differences from lead, and how much each method copies."""
-    from summarize.evaluation.compare import compare as compare_methods
     from summarize.output.tables import comparison_json, format_comparison
 
-    _existing(db_path)
-    try:
-        comparison = compare_methods(db_path, measure=measure, budget=budget, resamples=resamples, seed=seed)
-    except ValueError as error:
-        _fail(str(error))
+    comparison = api.compare(db_path, budget=budget, measure=measure, resamples=resamples, seed=seed)
     click.echo(comparison_json(comparison) if as_json else format_comparison(comparison))
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--out", "out_path", required=True, type=click.Path(dir_okay=False), help="HTML file to write.")
-@click.option("--budget", default="all", show_default=True,
-              help="Which budget to show: 'all', 'reference' (matched) or a number of words.")
+@budget_option(api.ALL_BUDGETS, "Which budget to show ('all': every budget).")
 @click.option("--examples", type=click.IntRange(0), default=3, show_default=True,
               help="How many best- and worst-scored documents to show.")
 @click.option("--resamples", type=click.IntRange(100), default=1000, show_default=True, help="Bootstrap resamples.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
+@seed_option("Bootstrap seed.")
 def report(db_path, out_path, budget, examples, resamples, seed):
     """Write one self-contained HTML report: comparison tables, charts, and the
     best- and worst-scored documents with the chosen sentences highlighted."""
-    from summarize.output.report import report as write_report
-
-    _existing(db_path)
-    try:
-        written = write_report(db_path, out_path, budget=budget, examples=examples, resamples=resamples, seed=seed)
-    except ValueError as error:
-        _fail(str(error))
+    written = api.report(db_path, out_path, budget=budget, examples=examples, resamples=resamples, seed=seed)
     click.echo(f"wrote {written}")
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--folds", type=click.IntRange(2), default=5, show_default=True,
               help="Cross-validation folds over documents (lowered so each keeps at least four documents).")
-@click.option("--model", "model_kind", type=click.Choice(("gradient-boosting", "logistic")),
+@click.option("--classifier", type=click.Choice(("gradient-boosting", "logistic")),
               default="gradient-boosting", show_default=True, help="The classifier behind the sentence scores.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed for folds and model.")
-@click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
-@click.option("--json", "as_json", is_flag=True, help="Print the training outcome and comparison as JSON.")
-def train(db_path, folds, model_kind, seed, wait_lock, as_json):
+@seed_option("Seed for folds and classifier.")
+@wait_lock_option
+@json_option
+def train(db_path, folds, classifier, seed, wait_lock, as_json):
     """Train the house-style method on the documents that have reference summaries.
 
     Each referenced document first gets a held-out summary from a model trained on
@@ -664,19 +586,11 @@ def train(db_path, folds, model_kind, seed, wait_lock, as_json):
     store, where `summarize run --methods house-style` finds it. Needs at least 20
     documents with reference summaries.
     """
-    from summarize.evaluation.compare import compare as compare_methods
-    from summarize.methods.learned.training import TooFewReferences
-    from summarize.methods.learned.training import train as train_method
     from summarize.output.tables import format_comparison
 
-    _existing(db_path)
-    say = (lambda text: click.echo(text, err=True)) if not as_json else None
-    try:
-        run_id, outcome = train_method(db_path, folds=folds, model=model_kind, seed=seed, progress=say,
-                                       lock_wait_seconds=wait_lock)
-    except (TooFewReferences, StoreLocked) as error:
-        _fail(f"{error} (`summarize choose` picks the best fixed method instead)")
-    comparison = compare_methods(db_path, budget="reference")
+    run_id, outcome = api.train(db_path, folds=folds, classifier=classifier, seed=seed,
+                                wait_lock=wait_lock or 0.0, progress=None if as_json else TerminalProgress())
+    comparison = api.compare(db_path, budget="reference")
     if as_json:
         click.echo(strict_json.dumps({"run_id": run_id, **outcome.as_dict(), "comparison": comparison.as_dict()}, indent=2))
         return
@@ -689,11 +603,11 @@ def train(db_path, folds, model_kind, seed, wait_lock, as_json):
 
 
 @main.command()
-@click.option("--db", "db_path", required=True, type=click.Path(dir_okay=False))
+@db_option()
 @click.option("--folds", type=click.IntRange(2), default=5, show_default=True, help="Cross-validation folds for house-style.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed for folds and model.")
-@click.option("--wait-lock", type=click.FloatRange(0), default=0.0, help="Seconds to wait for a run that holds the store.")
-@click.option("--json", "as_json", is_flag=True, help="Print the decision as JSON.")
+@seed_option("Seed for folds and classifier.")
+@wait_lock_option
+@json_option
 def choose(db_path, folds, seed, wait_lock, as_json):
     """Pick the method that does best on the documents with reference summaries.
 
@@ -702,14 +616,8 @@ def choose(db_path, folds, seed, wait_lock, as_json):
     ROUGE-2 and ROUGE-L F1. `summarize run --methods auto` makes the same choice and
     applies it. The decision is kept in the store as a run of its own.
     """
-    from summarize.methods.learned.method_choice import choose as choose_method
-
-    _existing(db_path)
-    say = lambda text: click.echo(text, err=True)  # noqa: E731 - one-line progress sink
-    try:
-        run_id, decision = choose_method(db_path, folds=folds, seed=seed, say=say, lock_wait_seconds=wait_lock)
-    except StoreLocked as error:
-        _fail(str(error))
+    run_id, decision = api.choose(db_path, folds=folds, seed=seed, wait_lock=wait_lock or 0.0,
+                                  progress=TerminalProgress())
     if as_json:
         click.echo(strict_json.dumps({"run_id": run_id, **decision.as_dict()}, indent=2))
         return

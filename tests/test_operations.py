@@ -34,7 +34,7 @@ from operations_support import (
 from store.records import Document, Segmentation, SourceLink, Span, Summary, SummarySentence
 from store.store import Store
 from summarize.cli import main
-from summarize.runs.progress import Progress
+from summarize.runs.progress import TerminalProgress
 from summarize.runs.runner import run_archive
 from summarize.runs.stopping import StopConditions, parse_until
 
@@ -91,7 +91,7 @@ def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archiv
             assert_store_sound(db)
         lock_left = Path(f"{db}.lock").exists()  # not when killed after releasing it
         messages = io.StringIO()
-        rerun = run_archive([archive], str(db), progress=Progress(stream=messages))
+        rerun = run_archive([archive], str(db), progress=TerminalProgress(stream=messages))
         assert rerun.exit_status == 0, messages.getvalue()
         assert (f"took over the lock left by process {pid}" in messages.getvalue()) == lock_left
         assert_store_sound(db)
@@ -118,7 +118,7 @@ def test_kill_9_of_a_run_with_workers_leaves_no_worker_behind(archive_and_refere
     _, alive = psutil.wait_procs(workers, timeout=30)
     assert alive == []
     assert_store_sound(db)
-    assert run_archive([archive], str(db), progress=Progress(stream=io.StringIO())).exit_status == 0
+    assert run_archive([archive], str(db), progress=TerminalProgress(stream=io.StringIO())).exit_status == 0
     assert summaries(db) == summaries(reference)
 
 
@@ -182,7 +182,7 @@ def _statuses_by_key(db: Path) -> dict[str, list[str]]:
 
 def _run_here(archive: Path, db: Path) -> tuple[int, dict, list[str]]:
     """An in-process run: exit status, counts, errors."""
-    report = run_archive([archive], str(db), progress=Progress(stream=io.StringIO()))
+    report = run_archive([archive], str(db), progress=TerminalProgress(stream=io.StringIO()))
     return report.exit_status, report.counts(), report.errors
 
 
@@ -265,7 +265,7 @@ def test_until_in_the_past_stops_before_any_work(tmp_path):
     archive = generated_archive(tmp_path / "archive", 3, seed=1)
     db = tmp_path / "until.sqlite"
     stop = StopConditions(until=datetime.now() - timedelta(minutes=1))
-    report = run_archive([archive], str(db), stop=stop, progress=Progress(stream=io.StringIO()))
+    report = run_archive([archive], str(db), stop=stop, progress=TerminalProgress(stream=io.StringIO()))
     assert report.stop_reason.startswith("reached --until")
     assert report.exit_status == 4
     assert report.documents_remaining == 3
@@ -327,7 +327,7 @@ class _Terminal(io.StringIO):
 
 def test_progress_bar_on_a_terminal_and_plain_lines_otherwise():
     terminal = _Terminal()
-    bar = Progress(stream=terminal)
+    bar = TerminalProgress(stream=terminal)
     bar.start(10, "documents summarized")
     for _ in range(4):
         bar.advance()
@@ -336,7 +336,7 @@ def test_progress_bar_on_a_terminal_and_plain_lines_otherwise():
     assert "4/10" in drawn and "doc/s" in drawn and "<" in drawn  # tqdm's rate and time left
 
     log = io.StringIO()
-    plain = Progress(stream=log, every_seconds=0)
+    plain = TerminalProgress(stream=log, every_seconds=0)
     plain.start(4, "documents summarized")
     for _ in range(4):
         plain.advance()

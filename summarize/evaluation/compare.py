@@ -16,18 +16,24 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from store.errors import SummarizerError, UsageError
 from store.evaluation import ScoredSummary
 from store.store import Store
 from summarize.evaluation.bootstrap import Difference, Interval, PercentileBootstrap
 from summarize.evaluation.fragments import IndexedSource, extractiveness
-from summarize.evaluation.matched import MatchedBudget, budget_label, is_matched
+from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.rouge import METRICS
 from summarize.methods.budget import count_words
+from summarize.methods.labels import budget_label, is_matched, setting_label
 
 MEASURES = ("f1", "precision", "recall")
 BASELINE = "lead"
 UPPER_BOUND = "oracle"
 EXTRACTIVENESS_FIELDS = ("coverage", "density", "compression", "novel_unigrams", "novel_bigrams")
+
+
+class NothingScored(SummarizerError):
+    """A budget was asked for, and no summary at that budget has scores."""
 
 
 @dataclass
@@ -127,7 +133,7 @@ def compare(
     None for all. ``db_path`` may be an open :class:`Store` (the review site's read-only
     one), which is left open."""
     if measure not in MEASURES:
-        raise ValueError(f"measure must be one of {', '.join(MEASURES)}, got {measure!r}")
+        raise UsageError(f"measure must be one of {', '.join(MEASURES)}, got {measure!r}")
     wanted = None if budget in (None, "all") else MatchedBudget.parse(budget).label()
     bootstrap = PercentileBootstrap(resamples=resamples, confidence=confidence, seed=seed)
     store = db_path if isinstance(db_path, Store) else Store(db_path, read_only=True)
@@ -141,24 +147,29 @@ def compare(
 
     grouped: dict[str, dict[tuple[str, str], list[ScoredSummary]]] = defaultdict(lambda: defaultdict(list))
     matched_labels = set()
+    scored_labels = set()
     for summary in summaries:
         label = budget_label(summary.params)
+        scored_labels.add(label)
         if is_matched(summary.params):
             matched_labels.add(label)
         if wanted is not None and label != wanted:
             continue
         key = (summary.method, _settings_key(summary.method, summary.params))
         grouped[label][key].append(summary)
+    if wanted is not None and not grouped:
+        present = "; ".join(sorted(scored_labels)) or "none (run `summarize score` first)"
+        raise NothingScored(f"{db_path}: no scored summaries at budget '{budget}' ({wanted}); scored budgets: {present}")
 
     sources: dict[int, IndexedSource] = {}
     groups = []
     for label, systems in grouped.items():
-        settings_per_method = defaultdict(int)
-        for method, _ in systems:
-            settings_per_method[method] += 1
+        names = {key: setting_label(key[0], members[0].params, with_budget=False) for key, members in systems.items()}
         results = []
         for (method, settings), members in systems.items():
-            name = method if settings_per_method[method] == 1 else f"{method}#{settings}"
+            name = names[(method, settings)]
+            if list(names.values()).count(name) > 1:  # settings the label cannot tell apart
+                name = f"{name}#{settings}"
             results.append(_system_result(name, method, members, sentences, documents, sources, measure, bootstrap))
         baseline = next((r for r in sorted(results, key=_system_order) if r.method == BASELINE), None)
         if baseline is not None:

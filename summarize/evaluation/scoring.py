@@ -9,7 +9,6 @@ they keep the library versions recorded with the run that made them.
 
 from __future__ import annotations
 
-import sys
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass
@@ -23,10 +22,6 @@ from summarize.evaluation.matched import (
     add_oracle_at_stored_budgets,
 )
 from summarize.evaluation.rouge import RougeMetric, reference_sentences
-
-
-def _say(message: str) -> None:
-    print(message, file=sys.stderr, flush=True)
 
 
 def score_unscored(store: Store, metric: RougeMetric, progress: Callable[[str], None] | None) -> int:
@@ -74,7 +69,7 @@ def score(
     db_path: str,
     budget: MatchedBudget | str = "reference",
     methods: Sequence[str] = MATCHED_METHODS,
-    progress: Callable[[str], None] | None = _say,
+    progress: Callable[[str], None] | None = None,
     lock_wait_seconds: float = 0.0,
 ) -> ScoreReport:
     """Make the summaries a fair comparison needs, then score everything unscored.

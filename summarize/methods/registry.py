@@ -26,6 +26,8 @@ class MethodEntry:
 
     ``runnable``: ``summarize run --methods`` takes it; ``matched``: ``summarize score
     --methods`` can make it at a matched budget (it needs nothing but the document).
+    ``stored_by``: ``module:Class`` of the method whose summaries are stored under this
+    name, when the registered class only stands for it until a run resolves it.
     """
 
     name: str
@@ -34,9 +36,16 @@ class MethodEntry:
     description: str
     runnable: bool
     matched: bool
+    stored_by: str = ""
 
     def method_class(self) -> type:
         return getattr(importlib.import_module(self.module), self.class_name)
+
+    def stored_class(self) -> type:
+        if not self.stored_by:
+            return self.method_class()
+        module, class_name = self.stored_by.split(":")
+        return getattr(importlib.import_module(module), class_name)
 
 
 _ENTRIES = (
@@ -49,7 +58,8 @@ _ENTRIES = (
     MethodEntry("seq2seq", "summarize.methods.seq2seq.abstractive", "Seq2SeqSummarizer",
                 "a local encoder-decoder model", runnable=True, matched=False),
     MethodEntry("house-style", "summarize.methods.learned.method_choice", "HouseStyleForRun",
-                "trained on the archive's own reference summaries", runnable=True, matched=False),
+                "trained on the archive's own reference summaries", runnable=True, matched=False,
+                stored_by="summarize.methods.learned.house_style:HouseStyleSummarizer"),
     MethodEntry("auto", "summarize.methods.learned.method_choice", "AutoForRun",
                 "the best of these by held-out ROUGE", runnable=True, matched=False),
     MethodEntry("oracle", "summarize.evaluation.oracle", "OracleSummarizer",

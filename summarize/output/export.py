@@ -28,9 +28,11 @@ from dataclasses import asdict
 from pathlib import Path
 
 from store.aspect_records import StoredAnswer
+from store.errors import SummarizerError
 from store.exports import ExportRow
 from store.store import Store
 from summarize.evaluation.budget_labels import budget_label
+from summarize.methods.labels import setting_label
 from summarize.output import strict_json
 from summarize.output.caution import CAUTION
 from summarize.output.summary_choice import SummaryChoice, choose_summaries, settings_text
@@ -120,7 +122,7 @@ def _write_markdown(rows: list[ExportRow], out) -> None:
                     out.write(f"- {_markdown_cell(answer_line(answer))}\n")
                 out.write("\n")
         scores = ", ".join(f"{m} {v:.3f}" for m, v in sorted(row.rouge_f1.items()))
-        out.write(f"**{row.method}**" + (f" (ROUGE F1: {scores})" if scores else "") + "\n\n")
+        out.write(f"**{_markdown_cell(setting_label(row.method, row.params))}**" + (f" (ROUGE F1: {scores})" if scores else "") + "\n\n")
         for sentence in row.summary_sentences:
             spans = ", ".join(f"{s.start}–{s.end}" for s in sentence.sources)
             out.write(f"- {_markdown_cell(sentence.text)}" + (f" ⟨chars {spans}⟩" if spans else "") + "\n")
@@ -159,7 +161,7 @@ def _write_html(rows: list[ExportRow], out) -> None:
                 for answer in row.aspect_answers:
                     out.write(f"<li>{e(answer_line(answer))}</li>")
                 out.write("</ul>")
-        out.write(f"<p class='method'>{e(row.method)}</p><ol>")
+        out.write(f"<p class='method'>{e(setting_label(row.method, row.params))}</p><ol>")
         for sentence in row.summary_sentences:
             spans = ", ".join(f"{s.start}–{s.end}" for s in sentence.sources)
             out.write(f"<li>{e(sentence.text)} <span class='span'>chars {e(spans)}</span></li>")
@@ -199,6 +201,10 @@ def write_rows(rows: list[ExportRow], format: str, out) -> None:
     _WRITERS[format](rows, out)
 
 
+class NothingToExport(SummarizerError):
+    """The selection holds no stored summary."""
+
+
 def export(
     db_path: str,
     format: str,
@@ -214,11 +220,15 @@ def export(
     and ``setting`` (see summary_choice.py; by default the choice covering the most
     documents), or with ``every_summary`` every stored summary (of ``methods`` if
     given), to ``out_path``. Returns the number of rows written and the choice. The
-    store's own files are never overwritten."""
+    store's own files are never overwritten; an empty selection is
+    :class:`NothingToExport`, and nothing is written."""
     check_output_path(out_path, db_path)
     with Store(db_path, read_only=True) as store:
         choice = None if every_summary else choose_summaries(store, method=method, budget=budget, key=setting)
         rows = selected_rows(store, choice, methods=methods, statuses=statuses)
+    if not rows:
+        chosen = f" of {', '.join(methods)}" if methods else ""
+        raise NothingToExport(f"{out_path}: not written: the selection holds no summaries{chosen}")
     with atomic_text_file(out_path, db_path, encoding=_ENCODINGS.get(format, "utf-8")) as out:
         write_rows(rows, format, out)
     return len(rows), choice

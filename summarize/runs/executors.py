@@ -23,10 +23,17 @@ from collections.abc import Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 
+from store.errors import SummarizerError
 from store.records import Document, Segmentation
 from summarize.reading.limits import DocumentTookTooLong, time_limit
 from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import split_document
+
+
+class ExecutorFailed(SummarizerError, RuntimeError):
+    """Where the work runs failed as a whole: a worker process died, or a Dask
+    scheduler is unreachable or has no workers."""
+
 
 Job = tuple[int, tuple[Document, Segmentation], list[str]]
 Outcome = tuple[int, Document, list[tuple[str, object]]]
@@ -140,7 +147,7 @@ class _WindowedExecutor(ABC):
         try:
             return future.result()
         except BrokenProcessPool:
-            raise RuntimeError("a worker process died (out of memory or killed); rerun to continue") from None
+            raise ExecutorFailed("a worker process died (out of memory or killed); rerun to continue") from None
         except Exception as error:
             return failure(RuntimeError(f"worker failed: {type(error).__name__}: {error}"))
 
@@ -214,13 +221,13 @@ class ProcessExecutor(_WindowedExecutor):
 
 
 def connect_scheduler(address: str):
-    """A Dask client for the scheduler at ``address``, or a one-line RuntimeError."""
+    """A Dask client for the scheduler at ``address``, or a one-line :class:`ExecutorFailed`."""
     from distributed import Client
 
     try:
         return Client(address, timeout=CONNECT_TIMEOUT)
     except OSError as error:
-        raise RuntimeError(f"cannot reach the Dask scheduler at {address}: {error}") from None
+        raise ExecutorFailed(f"cannot reach the Dask scheduler at {address}: {error}") from None
 
 
 def check_scheduler(address: str) -> None:
@@ -245,7 +252,7 @@ class DaskExecutor(_WindowedExecutor):
             self.client.wait_for_workers(1, timeout=60)
         except TimeoutError:
             self.client.close()
-            raise RuntimeError(f"the Dask scheduler at {self.address} has no workers") from None
+            raise ExecutorFailed(f"the Dask scheduler at {self.address} has no workers") from None
         # Two documents per worker thread: every thread stays busy, little waits at a stop.
         self.window = max(2, 2 * sum(self.client.nthreads().values()))
         if self.methods:

@@ -29,6 +29,12 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
+from store.errors import UsageError
+
+
+class JobFileError(UsageError, ValueError):
+    """A job file that cannot be read, or a setting in it that is unknown or of the wrong type."""
+
 RUN_KEYS = {
     "paths": list,
     "db": str,
@@ -68,16 +74,16 @@ def load_job(path: str | Path) -> dict:
         with open(path, "rb") as handle:
             job = tomllib.load(handle)
     except FileNotFoundError:
-        raise ValueError(f"{path}: job file not found") from None
+        raise JobFileError(f"{path}: job file not found") from None
     except tomllib.TOMLDecodeError as error:
-        raise ValueError(f"{path}: not valid TOML ({error})") from None
+        raise JobFileError(f"{path}: not valid TOML ({error})") from None
     for key, value in job.items():
         if key not in RUN_KEYS:
-            raise ValueError(f"{path}: unknown setting {key!r} (known: {', '.join(sorted(RUN_KEYS))})")
+            raise JobFileError(f"{path}: unknown setting {key!r} (known: {', '.join(sorted(RUN_KEYS))})")
         if not isinstance(value, RUN_KEYS[key]):
-            raise ValueError(f"{path}: setting {key!r} has the wrong type ({type(value).__name__})")
+            raise JobFileError(f"{path}: setting {key!r} has the wrong type ({type(value).__name__})")
     if not all(isinstance(pattern, str) for pattern in job.get("exclude", [])):
-        raise ValueError(f"{path}: setting 'exclude' must be a list of patterns (strings)")
+        raise JobFileError(f"{path}: setting 'exclude' must be a list of patterns (strings)")
     base = path.parent
     if "paths" in job:
         job["paths"] = [str(base / p) for p in job["paths"]]

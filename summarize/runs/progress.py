@@ -1,11 +1,19 @@
-"""Progress on stderr: a tqdm bar on a terminal, periodic plain lines otherwise, and
-an optional log file with every message."""
+"""Progress as events: the library reports, a front end shows.
+
+Library code never prints: it sends :class:`ProgressEvent` values to one callback
+(:data:`ProgressCallback`), through a :class:`ProgressTracker`. The command line passes
+a :class:`TerminalProgress`, which draws them on stderr (a tqdm bar on a terminal,
+periodic plain lines otherwise) and copies every line to an optional log file; a
+notebook passes its own callback, or none.
+"""
 
 from __future__ import annotations
 
 import logging
 import sys
 import time
+from collections.abc import Callable
+from dataclasses import dataclass
 
 from tqdm import tqdm
 
@@ -29,8 +37,70 @@ def configure_log_file(path: str | None) -> None:
     log.setLevel(logging.INFO)
 
 
-class Progress:
-    """Counts documents through a run.
+@dataclass(frozen=True)
+class ProgressEvent:
+    """One thing worth telling a person while work goes on.
+
+    ``kind``: ``"start"`` (counting ``total`` items called ``label``; ``total`` None
+    when not known in advance), ``"advance"`` (``count`` more done, ``done`` so far),
+    ``"message"`` (a line of ``text``), ``"warning"`` (a line shown even when quiet),
+    ``"error"`` (a one-line problem with a file; the work goes on) or ``"close"``.
+    """
+
+    kind: str
+    text: str = ""
+    total: int | None = None
+    label: str = ""
+    count: int = 0
+    done: int = 0
+
+
+ProgressCallback = Callable[[ProgressEvent], None]
+
+
+class ProgressTracker:
+    """What library code holds: counts, and turns each step into an event for the
+    callback (none: the work is silent)."""
+
+    def __init__(self, callback: ProgressCallback | None = None):
+        self.callback = callback
+        self.done = 0
+
+    def _emit(self, event: ProgressEvent) -> None:
+        if self.callback is not None:
+            self.callback(event)
+
+    def start(self, total: int | None, label: str = "documents") -> None:
+        self.done = 0
+        self._emit(ProgressEvent("start", total=total, label=label))
+
+    def advance(self, count: int = 1) -> None:
+        self.done += count
+        self._emit(ProgressEvent("advance", count=count, done=self.done))
+
+    def message(self, text: str) -> None:
+        self._emit(ProgressEvent("message", text=text))
+
+    def warning(self, text: str) -> None:
+        self._emit(ProgressEvent("warning", text=text))
+
+    def error(self, text: str) -> None:
+        self._emit(ProgressEvent("error", text=text))
+
+    def close(self) -> None:
+        self._emit(ProgressEvent("close"))
+
+
+def messages_to(callback: ProgressCallback | None) -> Callable[[str], None] | None:
+    """A ``say(text)`` function for code that reports in lines, sending each as a
+    message event to ``callback``."""
+    if callback is None:
+        return None
+    return ProgressTracker(callback).message
+
+
+class TerminalProgress:
+    """Shows progress events on a stream (stderr by default).
 
     On a terminal a tqdm bar shows rate and ETA; otherwise (cron, nohup, CI) a plain
     line is printed every ``every_seconds``. ``message`` prints a line either way
@@ -98,3 +168,17 @@ class Progress:
         if self._bar is not None:
             self._bar.close()
             self._bar = None
+
+    def __call__(self, event: ProgressEvent) -> None:
+        if event.kind == "start":
+            self.start(event.total, event.label)
+        elif event.kind == "advance":
+            self.advance(event.count)
+        elif event.kind == "message":
+            self.message(event.text)
+        elif event.kind == "warning":
+            self.message(event.text, logging.WARNING)
+        elif event.kind == "error":
+            self.error(event.text)
+        elif event.kind == "close":
+            self.close()

@@ -42,7 +42,7 @@ from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import DEFAULT_SPLITTER
 from summarize.runs.executors import check_scheduler, make_executor
 from summarize.runs.known_failures import FailureSorter
-from summarize.runs.progress import Progress
+from summarize.runs.progress import ProgressCallback, ProgressTracker
 from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
 
@@ -245,7 +245,7 @@ def run_archive(
     scheduler: str | None = None,
     stop: StopConditions | None = None,
     lock_wait_seconds: float = 0.0,
-    progress: Progress | None = None,
+    progress: ProgressCallback | None = None,
     config_extra: dict | None = None,
     limits: ReadLimits = ReadLimits(),
     follow_links_outside: bool = False,
@@ -266,7 +266,7 @@ def run_archive(
     """
     paths = [str(p) for p in paths]
     started = time.perf_counter()
-    progress = progress or Progress()
+    progress = ProgressTracker(progress)
     stop = stop or StopConditions()
     active = summarizers if summarizers is not None else build_methods(methods, budget, mmr_lambda, seq2seq_options)
     # A model that cannot be loaded stops the run here, before the store is touched.
@@ -344,7 +344,7 @@ def run_archive(
     return report
 
 
-def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: dict, progress: Progress) -> list:
+def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: dict, progress: ProgressTracker) -> list:
     """Methods that depend on the store (a trained model, a choice by held-out ROUGE)
     become concrete once the archive is read; the run's configuration records what
     each became and why."""

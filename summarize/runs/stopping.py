@@ -7,6 +7,12 @@ import time
 from collections.abc import Callable
 from datetime import datetime, timedelta
 
+from store.errors import UsageError
+
+
+class BadClockTime(UsageError, ValueError):
+    """An ``--until`` value that is not a time of day."""
+
 
 def parse_until(value: str, now: datetime | None = None) -> datetime:
     """``HH:MM`` as the next such local time (tomorrow when already past today)."""
@@ -14,7 +20,7 @@ def parse_until(value: str, now: datetime | None = None) -> datetime:
     try:
         clock = datetime.strptime(value.strip(), "%H:%M")
     except ValueError:
-        raise ValueError(f"--until {value!r}: expected a time of day as HH:MM, e.g. 06:30") from None
+        raise BadClockTime(f"--until {value!r}: expected a time of day as HH:MM, e.g. 06:30") from None
     target = now.replace(hour=clock.hour, minute=clock.minute, second=0, microsecond=0)
     return target if target > now else target + timedelta(days=1)
 

@@ -12,10 +12,8 @@ from sklearn.model_selection import KFold
 
 from store.records import Summary
 from summarize.evaluation.matched import MatchedBudget
+from summarize.methods.labels import EVALUATION_KEY
 from summarize.methods.learned.house_style import Example, HouseStyleSummarizer
-
-# Marks, in a summary's params, that it came from a model trained on other documents.
-EVALUATION_KEY = "evaluation"
 
 
 @dataclass(frozen=True)

@@ -16,6 +16,7 @@ from sklearn.pipeline import make_pipeline
 from sklearn.preprocessing import StandardScaler
 from threadpoolctl import threadpool_limits
 
+from store.errors import UsageError
 from store.records import Document, Segmentation, Summary
 from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.oracle import OracleSummarizer
@@ -31,7 +32,7 @@ from summarize.methods.extractive import (
 )
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
 
-MODELS = ("gradient-boosting", "logistic")
+CLASSIFIERS = ("gradient-boosting", "logistic")
 # The types a stored house-style model is made of, beyond the NumPy, SciPy and
 # scikit-learn types skops trusts by default: loading refuses any other.
 TRUSTED_TYPES = (
@@ -60,7 +61,7 @@ class HouseStyleSummarizer(ParamsFromFields):
     optionally reordered by MMR (Carbonell & Goldstein 1998) over TF-IDF cosines
     with ``mmr_lambda``, and cut by :meth:`Budget.select`, the rule every method uses.
 
-    Variants (``model``): ``"gradient-boosting"`` — scikit-learn's
+    Variants (``classifier``): ``"gradient-boosting"`` — scikit-learn's
     HistGradientBoostingClassifier (gradient boosting, Friedman 2001, on binned
     features as in LightGBM, Ke et al. 2017; early stopping on a seeded 10%
     validation split); ``"logistic"`` — standardised features and l2-regularised
@@ -79,10 +80,16 @@ class HouseStyleSummarizer(ParamsFromFields):
 
     budget: Budget = DEFAULT_BUDGET
     min_words: int = 4
-    model: str = "gradient-boosting"
+    classifier: str = "gradient-boosting"
     mmr_lambda: float | None = None
     seed: int = 0
     name: str = field(default="house-style", init=False)
+
+    def __setstate__(self, state: dict) -> None:
+        # Models stored before the classifier setting had its own name called it "model".
+        if "model" in state:
+            state["classifier"] = state.pop("model")
+        self.__dict__.update(state)
 
     # training -----------------------------------------------------------------------
 
@@ -129,16 +136,16 @@ class HouseStyleSummarizer(ParamsFromFields):
         return self
 
     def _new_model(self):
-        if self.model == "gradient-boosting":
+        if self.classifier == "gradient-boosting":
             return HistGradientBoostingClassifier(
                 learning_rate=0.05, max_iter=200, class_weight="balanced", random_state=self.seed
             )
-        if self.model == "logistic":
+        if self.classifier == "logistic":
             return make_pipeline(
                 StandardScaler(),
                 LogisticRegression(C=1.0, class_weight="balanced", max_iter=2000, random_state=self.seed),
             )
-        raise ValueError(f"model must be one of {', '.join(MODELS)}, got {self.model!r}")
+        raise UsageError(f"classifier must be one of {', '.join(CLASSIFIERS)}, got {self.classifier!r}")
 
     def _features(self) -> SentenceFeatures:
         if not hasattr(self, "features_"):

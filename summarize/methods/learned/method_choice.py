@@ -148,7 +148,7 @@ class HouseStyleForRun(ParamsFromFields, ResolvedAtRunTime):
     mmr_lambda: float | None = None
     folds: int = 5
     seed: int = 0
-    model: str = field(default="latest stored; trained from the referenced documents when none", init=False)
+    model_source: str = field(default="latest stored; trained from the referenced documents when none", init=False)
     name: str = field(default=LEARNED, init=False)
 
     def resolve(self, store: Store, run_id: int, say: Callable[[str], None] | None = None):

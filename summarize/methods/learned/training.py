@@ -23,6 +23,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from store.errors import SummarizerError
 from store.learned_models import SKOPS
 from store.records import param_hash
 from store.runs import recorded_run
@@ -44,7 +45,7 @@ SELECTION_METRICS = ("rouge1", "rouge2", "rougeL")
 SELECTION_RULE = "mean of ROUGE-1, ROUGE-2 and ROUGE-L F1 (Porter stemming), held out, at each reference's length"
 
 
-class TooFewReferences(ValueError):
+class TooFewReferences(SummarizerError, ValueError):
     """Not enough referenced documents to train and cross-validate a model."""
 
 
@@ -142,7 +143,8 @@ def train_in_store(
     if fold_count is None:
         raise TooFewReferences(
             f"{len(ids)} documents have a reference summary; the house-style method needs at least "
-            f"{MIN_REFERENCED_DOCUMENTS} to train and cross-validate"
+            f"{MIN_REFERENCED_DOCUMENTS} to train and cross-validate (`summarize choose` picks the best fixed "
+            "method instead)"
         )
     cv = CrossValidation(folds=fold_count, seed=prototype.seed)
     examples = [store.documents.load(document_id) for document_id in ids]
@@ -202,14 +204,14 @@ def train_in_store(
 def train(
     db_path: str,
     folds: int = 5,
-    model: str = "gradient-boosting",
+    classifier: str = "gradient-boosting",
     seed: int = 0,
     progress: Callable[[str], None] | None = None,
     lock_wait_seconds: float = 0.0,
 ) -> tuple[int, TrainingReport]:
     """:func:`train_in_store` as a run of its own (command ``train``), under the
     store's writer lock; returns the run id and the report."""
-    prototype = HouseStyleSummarizer(model=model, seed=seed)
+    prototype = HouseStyleSummarizer(classifier=classifier, seed=seed)
     config = {"method": prototype.name, "params": prototype.get_params(), "folds": folds}
     with recorded_run(db_path, "train", config, lock_wait_seconds, progress) as run:
         report = train_in_store(run.store, run.run_id, prototype, folds, progress)

@@ -35,6 +35,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from store.errors import UsageError
 from store.records import Document, Segmentation, Summary, SummarySentence
 from summarize.methods.contract import BatchCapable, NeedsLoading, runtime_only
 from summarize.methods.extractive import TfidfSummarizer
@@ -63,6 +64,10 @@ LONG_MODES = ("select", "chunks")
 _FAMILY_PREFIX = {"t5": "summarize: ", "mt5": "summarize: ", "umt5": "summarize: ", "longt5": "summarize: "}
 # Rounds of summarizing partial summaries in "chunks" mode before joining what is left.
 _MAX_MERGE_ROUNDS = 4
+
+
+class Seq2SeqSettingError(UsageError, ValueError):
+    """A seq2seq setting out of its range (profile, long mode, batch size, window, generation)."""
 
 
 @dataclass
@@ -117,9 +122,9 @@ class Seq2SeqSummarizer(NeedsLoading, BatchCapable):
         if hasattr(self, "checkpoint_"):
             return self
         if self.profile not in PROFILES:
-            raise ValueError(f"profile must be one of {', '.join(PROFILES)}, got {self.profile!r}")
+            raise Seq2SeqSettingError(f"profile must be one of {', '.join(PROFILES)}, got {self.profile!r}")
         if self.long_mode not in LONG_MODES:
-            raise ValueError(f"long_mode must be one of {', '.join(LONG_MODES)}, got {self.long_mode!r}")
+            raise Seq2SeqSettingError(f"long_mode must be one of {', '.join(LONG_MODES)}, got {self.long_mode!r}")
         from summarize.methods.seq2seq.generation import GenerationSettings, quantize_int8
 
         checkpoint = load_checkpoint(self.model, allow_pickle=self.allow_pickle)
@@ -133,13 +138,16 @@ class Seq2SeqSummarizer(NeedsLoading, BatchCapable):
             # A checkpoint's or profile's minimum yields to a shorter maximum; a
             # minimum given explicitly is checked instead.
             settings["min_new_tokens"] = min(settings["min_new_tokens"], settings["max_new_tokens"])
-        self.generation_ = GenerationSettings(
-            **{key: settings[key] for key in GenerationSettings.__dataclass_fields__}
-        )
+        try:
+            self.generation_ = GenerationSettings(
+                **{key: settings[key] for key in GenerationSettings.__dataclass_fields__}
+            )
+        except ValueError as error:
+            raise Seq2SeqSettingError(str(error)) from None
         self.quantized_ = bool(settings["quantize"])
         self.batch_size_ = int(settings["batch_size"])
         if self.batch_size_ < 1:
-            raise ValueError(f"batch_size must be at least 1, got {self.batch_size_}")
+            raise Seq2SeqSettingError(f"batch_size must be at least 1, got {self.batch_size_}")
         if self.prefix is not None:
             self.prefix_ = self.prefix
         else:
@@ -154,7 +162,7 @@ class Seq2SeqSummarizer(NeedsLoading, BatchCapable):
         if self.max_input_tokens is None:
             return checkpoint.input_window
         if self.max_input_tokens < 1:
-            raise ValueError(f"max_input_tokens must be at least 1, got {self.max_input_tokens}")
+            raise Seq2SeqSettingError(f"max_input_tokens must be at least 1, got {self.max_input_tokens}")
         # Absolute position tables (BART, PEGASUS) are a hard limit; T5's relative
         # positions are not, so a larger window is the user's choice there.
         positions = getattr(checkpoint.config, "max_position_embeddings", None)

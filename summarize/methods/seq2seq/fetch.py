@@ -10,6 +10,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from store.errors import SummarizerError
+
 FETCH_PATTERNS = ["*.json", "*.safetensors", "*.model", "*.txt"]
 PICKLE_PATTERNS = ["pytorch_model*.bin"]
 # Sub-folders hold other exports of the same model (ONNX, other frameworks).
@@ -17,7 +19,7 @@ IGNORE_PATTERNS = ["*/*"]
 _NO_NETWORK_HINT = "copy a checkpoint directory onto this machine and pass --model DIR"
 
 
-class CheckpointFetchError(Exception):
+class CheckpointFetchError(SummarizerError):
     """A fetch that did not produce a usable checkpoint; one line saying why."""
 
 

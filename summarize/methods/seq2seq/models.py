@@ -25,6 +25,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from store.errors import SummarizerError
 from summarize.reading.walk import special_kind
 
 # Files that can hold a tokenizer's vocabulary (fast tokenizers, SentencePiece models
@@ -44,7 +45,7 @@ _DEFAULT_WINDOW = 512
 _REPO_ID = re.compile(r"^[A-Za-z0-9][\w.-]*(/[\w.-]+)?$")
 
 
-class ModelLoadError(Exception):
+class ModelLoadError(SummarizerError):
     """A checkpoint that cannot be used; the message is one line naming it and why."""
 
 
