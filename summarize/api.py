@@ -18,7 +18,7 @@ from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 
 from store.errors import UsageError
-from store.existing import check_existing, open_existing
+from store.existing import check_existing, check_store_file, open_existing
 from summarize.methods.budget import REFERENCE
 from summarize.methods.labels import setting_label
 from summarize.methods.registry import MATCHED, REGISTRY, check_names
@@ -58,6 +58,7 @@ def run(
     missing = [path for path in paths if not Path(path).exists()]
     if missing:
         raise UsageError(f"{missing[0]}: no such file or folder" + (f" (and {len(missing) - 1} more)" if len(missing) > 1 else ""))
+    check_store_file(db)
     method_settings = settings.method_settings()
     return run_archive(
         paths,
