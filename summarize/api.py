@@ -23,6 +23,7 @@ from summarize.methods.budget import REFERENCE
 from summarize.methods.labels import setting_label
 from summarize.methods.registry import MATCHED, REGISTRY, check_names
 from summarize.runs.progress import ProgressCallback, messages_to
+from summarize.runs.runner import run_archive
 from summarize.runs.settings import RunSettings
 
 ALL_BUDGETS = "all"
@@ -49,8 +50,6 @@ def run(
     ``limits`` (a :class:`~summarize.reading.ingest.ReadLimits`) bounds what one file may
     cost; symbolic links leading outside ``paths`` are followed only when asked;
     ``exclude`` patterns leave paths out; ``strict_exit`` counts known failures too."""
-    from summarize.runs.runner import run_archive
-
     settings = (settings or RunSettings()).check()
     paths = [str(path) for path in paths]
     if not paths:

@@ -1,8 +1,8 @@
 """Every method by name: the one place a method is built from its name and settings.
 
 The runner, matched-budget scoring, training, the command line and the Python API all
-call :func:`build_method`. Classes are imported when first built, so naming a method
-(``--help``, checking a command line) costs nothing.
+call :func:`build_method`. Classes outside ``extractive`` (seq2seq and torch, the
+learned method) are imported when first built.
 """
 
 from __future__ import annotations
@@ -12,8 +12,7 @@ from dataclasses import dataclass, field, fields
 
 from store.errors import UsageError
 from summarize.methods.budget import Budget
-
-DEFAULT_BUDGET = Budget(sentences=3)
+from summarize.methods.extractive import DEFAULT_BUDGET
 
 
 class UnknownMethod(UsageError, ValueError):
