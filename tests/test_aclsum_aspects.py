@@ -47,7 +47,8 @@ def systems():
     return score_aspect_systems(test, PAPER_ASPECTS, {"learned": tuned.method, "lexrank": unlearned(texts)}, texts)
 
 
-# External check: ACLSum aspect summaries (Takeshita et al. 2024) scored with the
+# External check: ACLSum aspect summaries, from the `aclsum` package
+# ACLSum aspect summaries (Takeshita et al. 2024) scored with the
 # rouge-score package; paired bootstrap (Koehn 2004).
 def test_aspect_method_beats_the_generic_summary_on_outcomes(systems):
     best = max(GENERIC_METHODS, key=lambda m: systems.mean(m, "outcome"))
@@ -57,7 +58,8 @@ def test_aspect_method_beats_the_generic_summary_on_outcomes(systems):
     assert difference.estimate >= 0.02 and difference.low > 0
 
 
-# External check: ACLSum aspect summaries scored with rouge-score; paired bootstrap.
+# External check: ACLSum aspect summaries, from the `aclsum` package
+# ACLSum aspect summaries scored with rouge-score; paired bootstrap.
 def test_learned_variant_beats_the_unlearned_one(systems):
     learned = [v for a in PAPER_ASPECTS for v in systems.values("learned", a.name, "rouge1")]
     plain = [v for a in PAPER_ASPECTS for v in systems.values("lexrank", a.name, "rouge1")]
@@ -65,7 +67,8 @@ def test_learned_variant_beats_the_unlearned_one(systems):
     assert difference.estimate > 0 and difference.share_above_zero >= 0.95
 
 
-# External check: ACLSum aspect summaries; the greedy oracle reads the reference.
+# External check: ACLSum aspect summaries, from the `aclsum` package
+# ACLSum aspect summaries; the greedy oracle reads the reference.
 def test_aspect_oracle_is_above_every_method(systems):
     for aspect in PAPER_ASPECTS:
         oracle = systems.mean("oracle", aspect.name)
@@ -73,7 +76,8 @@ def test_aspect_oracle_is_above_every_method(systems):
             assert oracle > systems.mean(name, aspect.name)
 
 
-# External check: ACLSum papers with aspect summaries as JSON-style fields.
+# External check: ACLSum aspect summaries, from the `aclsum` package
+# ACLSum papers with aspect summaries as JSON-style fields.
 def test_training_in_a_store_cross_validates_and_keeps_the_model(tmp_path):
     db_path = str(tmp_path / "aspects.sqlite")
     store = Store(db_path)

@@ -50,12 +50,14 @@ def paired(systems, better: str, worse: str, metric: str):
 
 @pytest.mark.parametrize("method", ["tfidf", "textrank"])
 def test_content_methods_beat_random_selection(comparison, method):
+    # External check: ACLSum (aclsum package, Takeshita et al. 2024)
     difference = paired(comparison, method, "random", "rouge2")
     assert difference.estimate > 0 and difference.excludes_zero(), difference
 
 
 @pytest.mark.parametrize("method", ["lead", "tfidf", "textrank", "random"])
 def test_oracle_beats_every_method(comparison, method):
+    # External check: ACLSum (aclsum package, Takeshita et al. 2024)
     for metric in METRICS:
         difference = paired(comparison, "oracle", method, metric)
         assert difference.estimate > 0 and difference.excludes_zero(), (metric, difference)

@@ -36,8 +36,9 @@ def _sentence_vectors(fitted, document, segmentation):
     return fitted.relevance_.sentence_vectors(segmentation.sentence_texts(document.text))
 
 
-# External check: networkx (pagerank on the same weighted graph); continuous LexRank
-# as defined by Erkan & Radev (2004).
+# External check: networkx; Erkan & Radev (2004), Otterbacher, Erkan & Radev (2005)
+# networkx's pagerank on the same weighted graph; continuous LexRank as defined by
+# Erkan & Radev (2004).
 def test_continuous_lexrank_equals_networkx_pagerank(papers, fitted):
     for document, segmentation in papers[:4]:
         vectors = _sentence_vectors(fitted, document, segmentation)
@@ -52,8 +53,9 @@ def test_continuous_lexrank_equals_networkx_pagerank(papers, fitted):
         assert np.allclose(graph.toarray(), dense)
 
 
-# External check: networkx (personalised PageRank, `personalization`, whose teleport
-# vector also receives dangling mass); query-biased LexRank as Otterbacher, Erkan &
+# External check: networkx; Erkan & Radev (2004), Otterbacher, Erkan & Radev (2005)
+# networkx's personalised PageRank (`personalization`, whose teleport vector also
+# receives dangling mass); query-biased LexRank as Otterbacher, Erkan &
 # Radev (2005) define it.
 def test_query_biased_lexrank_equals_networkx_personalised_pagerank(papers, fitted):
     aspect = PAPER_ASPECTS[2]
@@ -69,8 +71,8 @@ def test_query_biased_lexrank_equals_networkx_personalised_pagerank(papers, fitt
         assert np.allclose(ours, [reference[i] for i in range(len(ours))], atol=1e-6)
 
 
-# External check: the relevance formula of Otterbacher, Erkan & Radev (2005),
-# rel(s|q) = Σ_w log(tf(w,s)+1)·log(tf(w,q)+1)·idf(w), worked by hand with
+# External check: Otterbacher, Erkan & Radev (2005); scikit-learn's smooth-IDF formula
+# The relevance formula rel(s|q) = Σ_w log(tf(w,s)+1)·log(tf(w,q)+1)·idf(w), worked by hand with
 # scikit-learn's documented smooth IDF ln((1+n)/(1+df))+1.
 def test_relevance_follows_the_published_formula_worked_by_hand():
     archive = ["the pump failed", "the valve leaked", "pump pump station"]

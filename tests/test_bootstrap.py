@@ -14,6 +14,7 @@ from summarize.evaluation.bootstrap import PercentileBootstrap
 
 
 def test_mean_interval_covers_the_true_mean_at_the_nominal_rate():
+    # External check: Efron & Tibshirani (1993), percentile bootstrap coverage (recalled from memory)
     rng = np.random.default_rng(20240611)
     bootstrap = PercentileBootstrap(resamples=1000, confidence=0.95, seed=7)
     covered = 0
@@ -25,6 +26,7 @@ def test_mean_interval_covers_the_true_mean_at_the_nominal_rate():
 
 
 def test_paired_difference_covers_the_true_difference():
+    # External check: Efron & Tibshirani (1993), percentile bootstrap coverage (recalled from memory)
     # Two methods scored on the same 50 documents: a document effect shared by both
     # plus independent noise; the true mean difference is 0.03 (Koehn 2004 resamples
     # the documents, keeping the pairs).

@@ -93,6 +93,7 @@ def _documents_computed_on(address: str) -> int:
 
 
 def test_dask_cluster_gives_the_same_summaries_as_a_local_run(dask_cluster, tmp_path):
+    # External check: Dask distributed (a real scheduler and worker)
     archive = copy_demo_archive(tmp_path / "demo_archive")
     local_db, cluster_db = tmp_path / "local.sqlite", tmp_path / "cluster.sqlite"
     local = run_cli("run", str(archive), "--db", str(local_db))

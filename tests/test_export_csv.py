@@ -30,8 +30,8 @@ def _csv(path) -> tuple[bytes, list[dict]]:
     return raw, list(csv.DictReader(io.StringIO(raw.decode("utf-8-sig"), newline="")))
 
 
-# External check: OWASP, "CSV Injection" (owasp.org/www-community/attacks/CSV_Injection):
-# cells beginning with =, +, -, @, tab or carriage return are prefixed with a single quote.
+# External check: OWASP, "CSV Injection"
+# (owasp.org/www-community/attacks/CSV_Injection): cells beginning with =, +, -, @, tab or carriage return are prefixed with a single quote.
 @pytest.mark.parametrize(
     "value, expected",
     [

@@ -55,6 +55,7 @@ def _random_symmetric(n: int, density: float, seed: int) -> np.ndarray:
 
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_pagerank_equals_networkx(seed):
+    # External check: networkx.pagerank
     # Reference: networkx.pagerank (weighted, damping 0.85), same graph; an isolated
     # node is included so that dangling-node handling is compared too.
     weights = _random_symmetric(80, density=0.3, seed=seed)
@@ -67,6 +68,7 @@ def test_pagerank_equals_networkx(seed):
 
 
 def test_textrank_scores_equal_networkx_on_its_own_graph():
+    # External check: networkx.pagerank
     # The TextRank graph of a real document, handed to networkx.pagerank.
     text = ARCHIVE[0]
     document = _doc(text)
@@ -83,6 +85,7 @@ def test_textrank_scores_equal_networkx_on_its_own_graph():
 
 
 def test_textrank_edge_weight_is_the_published_overlap_formula():
+    # External check: Mihalcea & Tarau (2004), sentence overlap similarity (recalled from memory)
     # Mihalcea & Tarau (2004), eq. for sentence similarity:
     # |{w : w in S_i and w in S_j}| / (log|S_i| + log|S_j|).
     sentences = [
@@ -107,6 +110,7 @@ def test_top_k_graph_keeps_strongest_edges_and_stays_symmetric():
 
 
 def test_tfidf_weights_follow_smooth_idf_formula():
+    # External check: scikit-learn user guide, smooth-IDF formula
     # scikit-learn's documented smooth IDF (user guide, "Tf-idf term weighting"):
     # idf(t) = ln((1 + n) / (1 + df(t))) + 1, then tf·idf, then l2 normalisation.
     texts = [text.lower() for text in ARCHIVE]
@@ -185,6 +189,7 @@ def test_word_and_ratio_budgets():
 
 
 def test_mmr_follows_its_definition():
+    # External check: Carbonell & Goldstein (1998), the MMR definition (recalled from memory)
     # Carbonell & Goldstein (1998): argmax λ·rel − (1−λ)·max sim to chosen.
     relevance = np.array([1.0, 0.9, 0.2])
     similarity = np.array([[1.0, 0.95, 0.0], [0.95, 1.0, 0.1], [0.0, 0.1, 1.0]])

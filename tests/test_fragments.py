@@ -11,6 +11,7 @@ from summarize.evaluation.fragments import IndexedSource, extractive_fragments, 
 
 
 def test_coverage_and_density_by_hand():
+    # External check: Grusky, Naaman & Artzi (2018), fragment definitions (recalled from memory)
     # A = the cat sat on the mat today   (7 tokens)
     # S = the cat sat on a mat           (6 tokens)
     # i=0 "the": runs start at A[0] ("the cat sat on", 4) and A[4] ("the", 1) -> take 4.

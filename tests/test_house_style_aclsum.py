@@ -55,6 +55,7 @@ def paired(systems, better: str, worse: str, metric: str):
 @pytest.mark.parametrize("baseline", ["lead", "tfidf", "textrank"])
 @pytest.mark.parametrize("metric", ["rouge1", "rouge2"])
 def test_house_style_beats_fixed_methods_held_out(trained, baseline, metric):
+    # External check: ACLSum (aclsum package, Takeshita et al. 2024)
     _, _, systems = trained
     difference = paired(systems, "house-style", baseline, metric)
     assert difference.estimate > 0 and difference.excludes_zero(), difference
@@ -67,6 +68,7 @@ def test_margin_over_lead_reaches_the_target(trained):
 
 
 def test_oracle_stays_above_house_style(trained):
+    # External check: ACLSum (aclsum package, Takeshita et al. 2024)
     # The learned method imitates the oracle's choices without seeing the reference.
     _, _, systems = trained
     difference = paired(systems, "oracle", "house-style", "rouge2")

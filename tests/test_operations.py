@@ -75,6 +75,7 @@ def _killed_run(archive: Path, db: Path, delay: float) -> int | None:
 
 
 def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archive_and_reference, tmp_path):
+    # External check: SQLite, PRAGMA integrity_check
     archive, reference, busy_seconds = archive_and_reference
     expected = summaries(reference)
     rng = random.Random(KILL_SEED)

@@ -29,6 +29,7 @@ def papers():
 
 
 def test_objective_equals_rouge_score_and_budget_holds(papers):
+    # External check: the rouge-score package, on ACLSum papers (aclsum package)
     for document, segmentation in papers:
         budget = Budget(words=count_words(document.reference_summary))
         summary = OracleSummarizer(budget=budget).summarize(document, segmentation)
@@ -40,6 +41,7 @@ def test_objective_equals_rouge_score_and_budget_holds(papers):
 
 
 def test_first_choice_is_the_best_single_sentence(papers):
+    # External check: the rouge-score package, on ACLSum papers (aclsum package)
     # With a one-sentence budget the greedy search is exhaustive: it must pick the
     # sentence a brute-force search with rouge-score picks (ties: the earlier one).
     for document, segmentation in papers:

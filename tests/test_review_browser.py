@@ -61,6 +61,7 @@ def _in_viewport(page, selector: str) -> bool:
 
 
 def test_search_open_click_sentence_shows_its_span(served, browser):
+    # External check: Debian's `chromium`, driven by Playwright
     address, ids = served
     page = browser.new_page()
     page.goto(address)

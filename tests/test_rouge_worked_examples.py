@@ -20,6 +20,7 @@ def exact(metrics=("rouge1", "rouge2", "rougeL", "rougeLsum")) -> RougeMetric:
 
 
 def test_rouge_l_sentence_level_example():
+    # External check: Lin (2004), ROUGE worked examples (recalled from memory)
     # Lin (2004) §3.1: LCS(S1, S2) = "police the gunman" (3 of 4 words) and
     # LCS(S1, S3) = "the gunman" (2 of 4), so with β = 1, ROUGE-L(S2) = 0.75 and
     # ROUGE-L(S3) = 0.5: S2 is preferred although both share the same bigram.
@@ -30,6 +31,7 @@ def test_rouge_l_sentence_level_example():
 
 
 def test_rouge_2_cannot_tell_s2_from_s3():
+    # External check: Lin (2004), ROUGE worked examples (recalled from memory)
     # Lin (2004) §3.1: S2 and S3 get the same ROUGE-2 score. By hand: the reference
     # bigrams are {police killed, killed the, the gunman}; S2 shares only "the gunman",
     # and so does S3, so P = R = F = 1/3 for both.
@@ -47,6 +49,7 @@ def test_rouge_1_counts_unigrams_without_order():
 
 
 def test_union_lcs_summary_level_example():
+    # External check: Lin (2004), ROUGE worked examples (recalled from memory)
     # Lin (2004) §3.2: reference sentence r = w1 w2 w3 w4 w5; candidate sentences
     # c1 = w1 w2 w6 w7 w8 and c2 = w1 w3 w8 w9 w5. LCS(r, c1) = w1 w2 and
     # LCS(r, c2) = w1 w3 w5, whose union is w1 w2 w3 w5, so LCS∪(r, C) = 4 and the

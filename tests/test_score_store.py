@@ -53,6 +53,7 @@ def build_store(path, rng: random.Random, documents: int = 12) -> None:
 
 
 def test_stored_scores_equal_a_direct_rouge_score_computation(tmp_path):
+    # External check: the rouge-score package (RougeScorer)
     rng = random.Random(8128)
     db = tmp_path / "scores.sqlite"
     build_store(db, rng)

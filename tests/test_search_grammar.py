@@ -68,6 +68,7 @@ DOCUMENTED = [
 
 @pytest.mark.parametrize("expression", DOCUMENTED)
 def test_our_rendering_selects_what_fts5_selects(fts, expression):
+    # External check: sqlite.org/fts5.html, section 3
     parsed = parse_query(expression)
     assert parsed.filters.is_empty()
     assert _rows(fts, parsed.match) == _rows(fts, expression)
@@ -136,6 +137,7 @@ def test_filters_are_taken_out_of_the_terms():
 
 
 def test_fts5_syntax_typed_by_a_user_never_reaches_fts5_as_syntax(fts):
+    # External check: sqlite.org/fts5.html, section 3
     # Column filters, NEAR groups, initial-token carets, "+" joins and stray quotes:
     # each query is either refused with a message or searched for as plain words.
     rng = random.Random(20261202)

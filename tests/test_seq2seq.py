@@ -55,6 +55,7 @@ def _fitted(model_dir, items, **settings) -> Seq2SeqSummarizer:
 
 @pytest.mark.parametrize("builder", ["tiny_t5", "tiny_bart", "tiny_pegasus"])
 def test_batched_greedy_output_equals_one_at_a_time(builder, request):
+    # External check: transformers' own generate()
     checkpoint = load_checkpoint(request.getfixturevalue(builder))
     torch.set_num_threads(1)
     texts = ["summarize: " + " ".join(REPORT_TEXT[n].split()[: 3 + 2 * n]) for n in range(6)]  # lengths differ
@@ -75,6 +76,7 @@ def test_batched_greedy_output_equals_one_at_a_time(builder, request):
 
 @pytest.mark.parametrize("builder", ["tiny_t5", "tiny_bart", "tiny_pegasus"])
 def test_beam_search_keeps_transformers_results(builder, request):
+    # External check: transformers' own beam search
     """Sharing encoder work among beams must not change beam search output."""
     checkpoint = load_checkpoint(request.getfixturevalue(builder))
     torch.set_num_threads(1)
@@ -216,6 +218,7 @@ def test_t5_gets_its_task_prefix_and_bart_none(tiny_t5, tiny_bart):
 
 
 def test_tiny_t5_learns_a_mapping(trained_t5):
+    # External check: common practice, no published source (a model trained on a mapping learns it)
     model_dir, losses = trained_t5
     assert losses[-1] < 0.1 * losses[0]
     checkpoint = load_checkpoint(model_dir)

@@ -1,6 +1,6 @@
 """Sentence and paragraph splitting.
 
-External check: the "Golden Rules" for English sentence boundary detection, a
+Checked against the "Golden Rules" for English sentence boundary detection, a
 published list of test cases (Dias, "Pragmatic Segmenter" golden rules, 2015), which
 pySBD (Sadvilkar & Neumann 2020) was built against. The cases below were recalled from
 memory, not copied from the list; their wording may differ in detail from the
@@ -94,6 +94,7 @@ def _split(text: str) -> list[str]:
 
 
 def test_golden_rules_pass_rate_at_least_90_percent():
+    # External check: the "Golden Rules" for English sentence boundary detection (Pragmatic Segmenter; cases recalled from memory)
     failures = [(name, _split(text), expected) for name, text, expected in GOLDEN_RULES if _split(text) != expected]
     rate = 1 - len(failures) / len(GOLDEN_RULES)
     assert rate >= 0.90, f"pass rate {rate:.2%}; failing: {failures}"
