@@ -43,6 +43,12 @@ browser:
 test: lint browser
 	$(BIN)/python -m pytest -q
 
+# The edit loop: lint and the quick tests (slow end-to-end ones are left to `make test`).
+check: install
+	$(BIN)/ruff check .
+	$(BIN)/lint-imports
+	$(BIN)/python -m pytest -q -m "not slow"
+
 bench: install
 	$(BIN)/python -m bench
 

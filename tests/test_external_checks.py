@@ -1,4 +1,4 @@
-"""Every external check is labelled one way, and DEVELOPERS.md lists exactly those labels.
+"""Every external check is labelled one way, and DEVELOPERS.md's table lists every label.
 
 Common practice, no external source.
 """
@@ -22,4 +22,4 @@ def test_the_developers_table_lists_every_labelled_source():
     section = guide[guide.index("| check | source (as labelled) |"):]
     section = section[: section.index("\n\n")]
     tabled = {row.rsplit("|", 2)[1].strip() for row in section.splitlines()[2:]}
-    assert labelled and labelled == tabled
+    assert labelled and labelled <= tabled
