@@ -31,10 +31,8 @@ from summarize.reading.sentences import SentenceSplitter
 from summarize.runs.jobfile import load_job
 from summarize.runs.progress import TerminalProgress, configure_log_file
 from summarize.runs.progress import log as run_log
+from summarize.runs.runner import EXIT_STOPPED_EARLY
 from summarize.runs.settings import RunSettings
-
-# Exit statuses (the README's table lists them for every command).
-EXIT_STOPPED_EARLY = 4
 
 
 class _Commands(click.Group):

@@ -75,3 +75,12 @@ def test_the_run_settings_are_stored_as_the_run_configuration(tmp_path):
         config = json.loads(conn.execute("select config from runs where command = 'run'").fetchone()[0])
     assert config["settings"] == settings.as_config()
     assert summarize.RunSettings(**{**config["settings"], "methods": tuple(config["settings"]["methods"])}) == settings
+
+
+def test_the_job_file_keys_are_the_run_settings():
+    from dataclasses import fields
+
+    from summarize.runs.jobfile import RUN_KEYS
+
+    job_only = {"paths", "db", "log"}  # where the run reads and writes, and its log: not how it summarizes
+    assert set(RUN_KEYS) - job_only == {item.name for item in fields(summarize.RunSettings)}

@@ -46,13 +46,10 @@ from summarize.runs.progress import ProgressCallback, ProgressTracker
 from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
 
-# Exit statuses of `summarize run` (documented in the README).
+# Exit statuses of `summarize run` beyond an error's own (the README's table).
 EXIT_OK = 0
-EXIT_FAILED = 1
 EXIT_SOME_FILES_FAILED = 3
 EXIT_STOPPED_EARLY = 4
-
-METHOD_NAMES = RUNNABLE
 
 
 @dataclass
