@@ -14,6 +14,8 @@ from click.testing import CliRunner
 
 from summarize.cli import main
 
+pytestmark = pytest.mark.slow  # whole archives or real processes
+
 DEMO = Path(__file__).resolve().parent.parent / "demo_archive"
 METHODS = ("lead", "tfidf", "textrank")
 

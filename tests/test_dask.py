@@ -22,6 +22,8 @@ from operations_support import (
     wait_for,
 )
 
+pytestmark = pytest.mark.slow  # a real Dask scheduler and worker
+
 START_TIMEOUT = 90
 
 

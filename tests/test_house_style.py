@@ -13,6 +13,7 @@ import json
 import random
 
 import numpy as np
+import pytest
 
 from store.records import Document
 from store.store import Store
@@ -262,6 +263,7 @@ def test_no_references_at_all_means_lead(tmp_path):
 # auto --------------------------------------------------------------------------------
 
 
+@pytest.mark.slow
 def test_auto_records_its_choice_and_applies_it_to_the_rest(tmp_path):
     write_archive(tmp_path / "archive", count=30, referenced=24)
     db = str(tmp_path / "store.sqlite")
@@ -291,6 +293,7 @@ def test_auto_records_its_choice_and_applies_it_to_the_rest(tmp_path):
     assert model.metrics["held_out_means"]["house-style"]["documents"] == 24
 
 
+@pytest.mark.slow
 def test_training_again_reuses_the_stored_model(tmp_path):
     write_archive(tmp_path / "archive", count=22, referenced=22)
     db = str(tmp_path / "store.sqlite")
@@ -312,6 +315,7 @@ def test_run_time_methods_are_built_by_name():
 # command line ------------------------------------------------------------------------
 
 
+@pytest.mark.slow
 def test_train_command_prints_the_held_out_comparison_and_choose_records_the_choice(tmp_path):
     from click.testing import CliRunner
 

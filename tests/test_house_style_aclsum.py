@@ -40,7 +40,7 @@ def trained(tmp_path_factory):
     store.close()
     result = compare(db, budget="reference", resamples=1000, seed=0)
     assert len(result.groups) == 1 and result.groups[0].matched
-    return db, report, {system.name: system for system in result.groups[0].systems}
+    return db, report, {system.method: system for system in result.groups[0].systems}
 
 
 def paired(systems, better: str, worse: str, metric: str):

@@ -36,6 +36,7 @@ def _holder_pid(db: Path) -> int | None:
         return None
 
 
+@pytest.mark.slow
 def test_second_run_is_refused_naming_the_holder_or_waits_for_it(tmp_path):
     archive = generated_archive(tmp_path / "archive", 40, seed=2)
     db = tmp_path / "store.sqlite"
@@ -95,6 +96,7 @@ _HOLD_AND_FORK = textwrap.dedent(
 )
 
 
+@pytest.mark.slow
 def test_a_killed_holder_frees_the_store_even_when_its_forked_child_lives_on(tmp_path):
     db = str(tmp_path / "store.sqlite")
     holder = subprocess.Popen([sys.executable, "-c", _HOLD_AND_FORK, db], env=cli_environment(),
@@ -133,6 +135,7 @@ _CONTEND = textwrap.dedent(
 )
 
 
+@pytest.mark.slow
 def test_exactly_one_of_many_simultaneous_starters_gets_a_stale_lock(tmp_path):
     db = str(tmp_path / "store.sqlite")
     Path(f"{db}.lock").write_text(json.dumps({"pid": _dead_pid(), "host": socket.gethostname(), "started": None}))

@@ -74,6 +74,7 @@ def _killed_run(archive: Path, db: Path, delay: float) -> int | None:
     return process.pid if killed else None
 
 
+@pytest.mark.slow
 def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archive_and_reference, tmp_path):
     # External check: SQLite, PRAGMA integrity_check
     archive, reference, busy_seconds = archive_and_reference
@@ -105,6 +106,7 @@ def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archiv
         assert not Path(f"{db}.lock").exists()
 
 
+@pytest.mark.slow
 def test_kill_9_of_a_run_with_workers_leaves_no_worker_behind(archive_and_reference, tmp_path):
     archive, reference, _ = archive_and_reference
     db = tmp_path / "workers_killed.sqlite"
@@ -123,6 +125,7 @@ def test_kill_9_of_a_run_with_workers_leaves_no_worker_behind(archive_and_refere
     assert summaries(db) == summaries(reference)
 
 
+@pytest.mark.slow
 def test_time_budget_stops_cleanly_reports_what_remains_and_a_rerun_finishes(archive_and_reference, tmp_path):
     archive, reference, _ = archive_and_reference
     db = tmp_path / "budget.sqlite"
@@ -141,6 +144,7 @@ def test_time_budget_stops_cleanly_reports_what_remains_and_a_rerun_finishes(arc
     assert summaries(db) == summaries(reference)
 
 
+@pytest.mark.slow
 def test_sigterm_stops_after_the_document_in_flight(archive_and_reference, tmp_path):
     archive, reference, _ = archive_and_reference
     db = tmp_path / "sigterm.sqlite"
@@ -162,6 +166,7 @@ def test_sigterm_stops_after_the_document_in_flight(archive_and_reference, tmp_p
     assert summaries(db) == summaries(reference)
 
 
+@pytest.mark.slow
 def test_two_worker_processes_give_the_same_summaries_as_one(archive_and_reference, tmp_path):
     archive, reference, _ = archive_and_reference
     db = tmp_path / "two_workers.sqlite"
@@ -187,6 +192,7 @@ def _run_here(archive: Path, db: Path) -> tuple[int, dict, list[str]]:
     return report.exit_status, report.counts(), report.errors
 
 
+@pytest.mark.slow
 def test_changed_removed_restored_and_reverted_files(tmp_path):
     archive = generated_archive(tmp_path / "archive", 4, seed=5)
     db = tmp_path / "versions.sqlite"

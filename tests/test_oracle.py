@@ -40,6 +40,7 @@ def test_objective_equals_rouge_score_and_budget_holds(papers):
         assert starts == sorted(starts)
 
 
+@pytest.mark.slow
 def test_first_choice_is_the_best_single_sentence(papers):
     # External check: the rouge-score package, on ACLSum papers (aclsum package)
     # With a one-sentence budget the greedy search is exhaustive: it must pick the

@@ -217,6 +217,7 @@ def test_t5_gets_its_task_prefix_and_bart_none(tiny_t5, tiny_bart):
 # What the trained model writes: mapping learned, provenance, flags -----------------------
 
 
+@pytest.mark.slow
 def test_tiny_t5_learns_a_mapping(trained_t5):
     # External check: common practice, no published source (a model trained on a mapping learns it)
     model_dir, losses = trained_t5
@@ -230,6 +231,7 @@ def test_tiny_t5_learns_a_mapping(trained_t5):
     assert [g.text for g in outputs] == [colour_summary(colour) for colour in COLOUR_CODES]
 
 
+@pytest.mark.slow
 def test_generated_sentences_link_to_valid_source_spans_and_flag_the_invented_number(trained_t5):
     model_dir, _ = trained_t5
     items = []
@@ -274,6 +276,7 @@ def test_a_failing_document_does_not_stop_the_others(tiny_t5, monkeypatch):
 # A whole run into the store -------------------------------------------------------------
 
 
+@pytest.mark.slow
 def test_run_archive_stores_seq2seq_summaries_with_sources_and_flags(trained_t5, tmp_path):
     model_dir, _ = trained_t5
     archive = tmp_path / "archive"
@@ -317,6 +320,7 @@ def test_run_archive_stores_seq2seq_summaries_with_sources_and_flags(trained_t5,
     assert again.summaries_added == 0
 
 
+@pytest.mark.slow
 def test_spans_in_the_store_slice_back_to_source_sentences(trained_t5, tmp_path):
     model_dir, _ = trained_t5
     archive = tmp_path / "archive"

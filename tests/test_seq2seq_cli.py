@@ -59,6 +59,7 @@ def test_seq2seq_without_a_model_is_a_usage_error(archive, tmp_path):
     assert result.exit_code == 2 and "--model" in result.stderr
 
 
+@pytest.mark.slow
 def test_run_with_seq2seq_options(archive, trained_model_dir, tmp_path):
     db = tmp_path / "store.sqlite"
     result = CliRunner().invoke(

@@ -93,6 +93,7 @@ def test_every_field_of_a_registered_method_is_a_parameter_or_runtime_only(name)
         assert param_hash(name, changed.get_params()) != before, f"{name}.{field_name} does not reach the hash"
 
 
+@pytest.mark.slow
 def test_seq2seq_declares_what_only_changes_how_it_runs(tiny_t5):
     from summarize.methods.seq2seq.abstractive import Seq2SeqSummarizer
 
