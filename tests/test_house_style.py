@@ -169,6 +169,7 @@ def test_learns_the_house_style_and_is_deterministic():
         assert all(s.text not in " ".join(BACKGROUND) for s in summary.sentences)
 
 
+@pytest.mark.slow
 def test_mmr_keeps_a_repeated_finding_out_of_the_summary():
     # MMR (Carbonell & Goldstein 1998): λ = 1 is plain relevance order; a lower λ
     # trades relevance for novelty, so an exact copy of a chosen sentence drops out.

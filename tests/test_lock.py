@@ -68,6 +68,7 @@ def _dead_pid() -> int:
     return process.pid
 
 
+@pytest.mark.slow
 def test_lock_left_by_a_dead_process_is_taken_over(tmp_path):
     archive = generated_archive(tmp_path / "archive", 2, seed=4)
     db = tmp_path / "store.sqlite"
