@@ -221,7 +221,9 @@ def export(
         _known_method(method)
     if budget is not None:
         _budget_label(budget)
-    chosen = check_names(list(methods), tuple(REGISTRY)) if methods and every_summary else None
+    chosen = check_names(list(methods), tuple(REGISTRY)) if methods else None
+    if chosen and not every_summary:
+        raise UsageError("--methods selects among every stored summary: give it with --every-summary")
     statuses = ("active", "duplicate", "missing") if include_missing else None
     check_existing(db)
     return export_summaries(str(db), format, out, method=method, budget=budget, setting=setting,

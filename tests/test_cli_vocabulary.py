@@ -95,7 +95,7 @@ def test_two_settings_of_one_method_are_told_apart_in_words(scored, tmp_path):
     assert "textrank · 3 sentences · MMR 0.7" in shown.stdout and "parameters" not in shown.stdout
     for fmt in ("md", "html"):
         out = tmp_path / f"summaries.{fmt}"
-        assert invoke("export", "--db", db, "--format", fmt, "--out", out).exit_code == 0
+        assert invoke("export", "--db", db, "--format", fmt, "--out", out, "--every-summary").exit_code == 0
         text = html.unescape(out.read_text(encoding="utf-8"))
         assert "lead · 3 sentences" in text and "lead · 10% of the document's words" in text
         assert "**lead**" not in text and "<p class='method'>lead</p>" not in text
@@ -108,12 +108,12 @@ def test_budget_filters_on_show_and_export(scored, tmp_path):
         "lead · 10% of the document's words", "oracle · 10% of the document's words"
     ]
     out = tmp_path / "ten.csv"
-    result = invoke("export", "--db", db, "--format", "csv", "--out", out, "--budget", "10%", "--methods", "lead")
+    result = invoke("export", "--db", db, "--format", "csv", "--out", out, "--budget", "10%", "--method", "lead")
     assert result.exit_code == 0
-    with open(out, encoding="utf-8", newline="") as handle:
+    with open(out, encoding="utf-8-sig", newline="") as handle:
         rows = list(csv.DictReader(handle))
-    assert rows and {row["setting"] for row in rows} == {"lead · 10% of the document's words"}
-    assert f"wrote {len(rows)} summaries" in result.stdout
+    assert rows and {(row["method"], row["budget"]) for row in rows} == {("lead", "10% of the document's words")}
+    assert f"wrote {len(rows)} rows" in result.stdout
 
 
 @pytest.mark.parametrize(
@@ -124,7 +124,9 @@ def test_budget_filters_on_show_and_export(scored, tmp_path):
         ("score", "--db", "{db}", "--budget", "lots"),
         ("compare", "--db", "{db}", "--budget", "80 words"),
         ("report", "--db", "{db}", "--budget", "reference-ish", "--out", "{tmp}/r.html"),
-        ("export", "--db", "{db}", "--format", "csv", "--out", "{tmp}/x.csv", "--methods", "bogus"),
+        ("export", "--db", "{db}", "--format", "csv", "--out", "{tmp}/x.csv", "--every-summary", "--methods", "bogus"),
+        ("export", "--db", "{db}", "--format", "csv", "--out", "{tmp}/x.csv", "--method", "bogus"),
+        ("export", "--db", "{db}", "--format", "csv", "--out", "{tmp}/x.csv", "--budget", "80 words"),
         ("show", "1", "--db", "{db}", "--method", "bogus"),
         ("find", "pump", "--db", "{db}", "--method", "bogus"),
         ("run", "{archive}", "--db", "{db}", "--until", "25:99"),
@@ -171,7 +173,7 @@ def test_output_into_a_missing_folder_and_a_foreign_store_are_one_line_errors(sc
 def test_an_empty_selection_for_export_is_an_error(scored, tmp_path):
     _, db = scored
     out = tmp_path / "none.csv"
-    result = invoke("export", "--db", db, "--format", "csv", "--out", out, "--methods", "random")
+    result = invoke("export", "--db", db, "--format", "csv", "--out", out, "--every-summary", "--methods", "random")
     assert result.exit_code == 1
     one_error_line(result, "no summaries of random")
     assert not out.exists()

@@ -93,6 +93,7 @@ def _arguments(command: str, db: Path, folder: Path) -> list[str]:
         "show": ["1", "--db", str(db)],
         "export": ["--db", str(db), "--format", "csv", "--out", out],
         "fetch-model": ["fictional-lab/tiny-t5", "--dest", str(folder / "model")],
+        "review": ["--db", str(db)],
     }[command]
 
 
