@@ -17,8 +17,8 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 
-from store.errors import UsageError
-from store.existing import check_existing, check_store_file, open_existing
+from store.errors import SummarizerError, UsageError
+from store.existing import check_existing, open_existing
 from summarize.methods.budget import REFERENCE
 from summarize.methods.labels import setting_label
 from summarize.methods.registry import MATCHED, REGISTRY, check_names
@@ -54,10 +54,6 @@ def run(
     paths = [str(path) for path in paths]
     if not paths:
         raise UsageError("give at least one PATH to read")
-    missing = [path for path in paths if not Path(path).exists()]
-    if missing:
-        raise UsageError(f"{missing[0]}: no such file or folder" + (f" (and {len(missing) - 1} more)" if len(missing) > 1 else ""))
-    check_store_file(db)
     method_settings = settings.method_settings()
     return run_archive(
         paths,
@@ -165,7 +161,10 @@ def find(db: str | Path, query: str, method: str | None = None, limit: int = 20,
     from store.search import parse_query
 
     method = _known_method(method)
-    parsed = parse_query(query + (f" method:{method}" if method else ""))
+    try:
+        parsed = parse_query(query + (f" method:{method}" if method else ""))
+    except SummarizerError as error:
+        raise type(error)(f"query {query!r}: {error}") from None
     with open_existing(db) as store:
         return store.queries.search(parsed, offset=offset, limit=limit)
 

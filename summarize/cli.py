@@ -250,6 +250,9 @@ def run(ctx, paths, db_path, methods, budget, mmr, workers, scheduler, until, ma
     except BadExcludePattern as error:
         raise UsageError(f"--exclude: {error}") from None
     strict_exit = bool(strict_exit if strict_exit is not None else job.get("strict_exit", False))
+    for key in read_options:  # read limits and link policy given in the job file, unless given here
+        if key in job and ctx.get_parameter_source(key) is click.core.ParameterSource.DEFAULT:
+            read_options[key] = job[key]
     configure_log_file(log or job.get("log"))
     try:
         report = api.run(paths, db_path, settings, progress=TerminalProgress(quiet=quiet),

@@ -83,5 +83,8 @@ def test_the_job_file_keys_are_the_run_settings():
     from summarize.runs.jobfile import RUN_KEYS
 
     # Where the run reads and writes, its log, and the aspect definitions (read by the aspect commands).
-    job_only = {"paths", "db", "log", "aspects"}
+    # Read limits and link policy bound what one file may cost, not how the run summarizes.
+    read_limits = {"max_file_mb", "max_unpacked_mb", "max_parts", "max_metadata_kb", "max_yaml_nodes",
+                   "document_seconds", "follow_links_outside"}
+    job_only = {"paths", "db", "log", "aspects"} | read_limits
     assert set(RUN_KEYS) - job_only == {item.name for item in fields(summarize.RunSettings)}

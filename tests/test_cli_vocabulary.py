@@ -54,13 +54,14 @@ def summary_count(db: Path) -> int:
         return conn.execute("select count(*) from summaries").fetchone()[0]
 
 
-def test_a_budget_with_a_space_is_refused_before_anything_is_stored(scored, tmp_path):
+def test_a_budget_written_as_two_words_is_caught(scored, tmp_path):
     archive, _ = scored
     db = tmp_path / "new.sqlite"
-    result = invoke("run", archive, "words", "--db", db, "--budget", "80")
-    assert result.exit_code == 2
-    one_error_line(result, "words: no such file or folder")
-    assert not db.exists()
+    result = invoke("run", archive, "words", "--db", db, "--budget", "80", "--quiet")
+    assert result.exit_code == 3  # 80 is 80 sentences; the stray word is named as a missing path
+    one_error_line(result, "words: no such file or directory")
+    assert "every summary is already stored" not in result.output
+    db = tmp_path / "other.sqlite"
     spaced = invoke("run", archive, "--db", db, "--budget", "80 words")
     assert spaced.exit_code == 2 and "'80w' (words)" in spaced.stderr and not db.exists()
 
@@ -144,10 +145,10 @@ def test_unknown_methods_budgets_and_times_are_usage_errors(scored, tmp_path, ar
 
 def test_a_missing_path_is_named_not_reported_as_all_stored(scored):
     _, db = scored
-    result = invoke("run", "archive/nope", "--db", db)
-    assert result.exit_code == 2
-    one_error_line(result, "archive/nope: no such file or folder")
-    assert "already stored" not in result.output
+    result = invoke("run", "archive/nope", "--db", db, "--quiet")
+    assert result.exit_code == 3
+    one_error_line(result, "archive/nope: no such file or directory")
+    assert "every summary is already stored" not in result.output
 
 
 def test_output_into_a_missing_folder_and_a_foreign_store_are_one_line_errors(scored, tmp_path):
@@ -159,14 +160,14 @@ def test_output_into_a_missing_folder_and_a_foreign_store_are_one_line_errors(sc
     ):
         result = invoke(*args)
         assert result.exit_code == 1
-        one_error_line(result, "no such folder")
+        one_error_line(result, "does not exist")
     pdf = tmp_path / "some.pdf"
     pdf.write_bytes(b"%PDF-1.4 not a store")
     for args in (("show", "1", "--db", pdf), ("compare", "--db", pdf), ("export", "--db", pdf, "--format", "csv",
                                                                          "--out", tmp_path / "y.csv")):
         result = invoke(*args)
         assert result.exit_code == 1
-        one_error_line(result, "not a store")
+        one_error_line(result, "not a summary store")
     assert pdf.read_bytes() == b"%PDF-1.4 not a store"
 
 
