@@ -86,5 +86,7 @@ def test_the_job_file_keys_are_the_run_settings():
     # Read limits and link policy bound what one file may cost, not how the run summarizes.
     read_limits = {"max_file_mb", "max_unpacked_mb", "max_parts", "max_metadata_kb", "max_yaml_nodes",
                    "document_seconds", "follow_links_outside"}
-    job_only = {"paths", "db", "log", "aspects"} | read_limits
+    # Which files a run reads and how it counts old failures: the archive's side, like paths.
+    archive_side = {"exclude", "strict_exit"}
+    job_only = {"paths", "db", "log", "aspects"} | read_limits | archive_side
     assert set(RUN_KEYS) - job_only == {item.name for item in fields(summarize.RunSettings)}

@@ -21,7 +21,7 @@ from click.testing import CliRunner
 from summarize.cli import main
 from summarize.reading.exclusions import EXCLUDE_FILE_NAME, BadExcludePattern, ExcludePattern, ExclusionRules
 from summarize.reading.ingest import IngestProblem, archive_files, iter_archive
-from summarize.runs.progress import Progress
+from summarize.runs.progress import TerminalProgress
 from summarize.runs.runner import run_archive
 
 ROOT = Path("/srv/archive")
@@ -129,7 +129,7 @@ def test_the_archive_folder_exclude_file(tmp_path):
 def test_an_excluded_document_stays_as_it_was_in_the_store(tmp_path):
     archive = make_archive(tmp_path / "archive")
     db = tmp_path / "store.sqlite"
-    quiet = Progress(stream=io.StringIO())
+    quiet = TerminalProgress(stream=io.StringIO())
     assert run_archive([archive], str(db), methods=["lead"], progress=quiet).exit_status == 0
     later = run_archive([archive], str(db), methods=["lead"], exclude=["drafts"], progress=quiet)
     assert later.exit_status == 0 and later.missing == 0

@@ -24,7 +24,7 @@ from operations_support import DEMO_ARCHIVE, generated_archive
 from store.records import Document
 from summarize.cli import main
 from summarize.methods.extractive import LeadSummarizer
-from summarize.runs.progress import Progress
+from summarize.runs.progress import TerminalProgress
 from summarize.runs.runner import EXIT_OK, EXIT_SOME_FILES_FAILED, run_archive
 
 AWKWARD = sorted(path.name for path in (DEMO_ARCHIVE / "awkward").iterdir())
@@ -40,7 +40,7 @@ def archive(tmp_path) -> Path:
 
 
 def run(archive: Path, db: Path, **options):
-    return run_archive([archive], str(db), methods=["lead"], progress=Progress(stream=io.StringIO()), **options)
+    return run_archive([archive], str(db), methods=["lead"], progress=TerminalProgress(stream=io.StringIO()), **options)
 
 
 def problems(db: Path) -> list[tuple]:
@@ -165,7 +165,7 @@ def test_a_method_failing_on_an_unchanged_document_is_known(tmp_path):
     db = tmp_path / "store.sqlite"
 
     def picky_run():
-        return run_archive([archive], str(db), summarizers=[PickyLead()], progress=Progress(stream=io.StringIO()))
+        return run_archive([archive], str(db), summarizers=[PickyLead()], progress=TerminalProgress(stream=io.StringIO()))
 
     first = picky_run()
     assert first.exit_status == EXIT_SOME_FILES_FAILED and len(first.failed_summaries) == 1

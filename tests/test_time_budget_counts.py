@@ -21,7 +21,7 @@ from pathlib import Path
 import pytest
 from operations_support import generated_archive
 
-from summarize.runs.progress import Progress
+from summarize.runs.progress import TerminalProgress
 from summarize.runs.runner import run_archive
 from summarize.runs.stopping import StopConditions
 
@@ -46,8 +46,8 @@ def budget_at(reads: int) -> StopConditions:
     return StopConditions(max_minutes=reads / 60, clock=TickingClock())
 
 
-def quiet() -> Progress:
-    return Progress(stream=io.StringIO())
+def quiet() -> TerminalProgress:
+    return TerminalProgress(stream=io.StringIO())
 
 
 def build_archive(folder: Path) -> Path:

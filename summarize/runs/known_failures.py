@@ -17,7 +17,7 @@ import stat
 
 from store.printable import printable
 from store.store import Store
-from summarize.runs.progress import Progress
+from summarize.runs.progress import ProgressTracker
 
 _CHUNK = 1024 * 1024
 
@@ -55,7 +55,7 @@ class FailureSorter:
     """Records each failure of a run and sorts it into the report's new ``errors``
     (or ``failed_summaries``) and its ``known_failures``."""
 
-    def __init__(self, store: Store, run_id: int, report, progress: Progress):
+    def __init__(self, store: Store, run_id: int, report, progress: ProgressTracker):
         self.store = store
         self.run_id = run_id
         self.report = report

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from tqdm import tqdm
 
 log = logging.getLogger("summarize")
-# Messages reach the screen through Progress itself; without a handler of its own the
+# Messages reach the screen through TerminalProgress itself; without a handler of its own the
 # logger would echo warnings to stderr a second time.
 log.addHandler(logging.NullHandler())
 
