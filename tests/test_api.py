@@ -87,6 +87,6 @@ def test_the_job_file_keys_are_the_run_settings():
     read_limits = {"max_file_mb", "max_unpacked_mb", "max_parts", "max_metadata_kb", "max_yaml_nodes",
                    "document_seconds", "follow_links_outside"}
     # Which files a run reads and how it counts old failures: the archive's side, like paths.
-    archive_side = {"exclude", "strict_exit"}
+    archive_side = {"exclude", "strict_exit", "abbreviation"}
     job_only = {"paths", "db", "log", "aspects"} | read_limits | archive_side
     assert set(RUN_KEYS) - job_only == {item.name for item in fields(summarize.RunSettings)}
