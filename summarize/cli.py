@@ -9,6 +9,7 @@ and turned into its exit status; anything else is a bug and shows as one.
 from __future__ import annotations
 
 import math
+import os
 import sys
 import textwrap
 
@@ -159,6 +160,20 @@ def _read_limits(options: dict) -> ReadLimits:
 
 
 
+# Words a shell splits off a budget written with a space ("--budget 80 words"): as PATHs
+# that do not exist they are a slip in the budget, caught before any work is done.
+_BUDGET_UNIT_WORDS = {"w", "word", "words", "sentence", "sentences", "%", "percent"}
+
+
+def _refuse_budget_units_as_paths(paths: list[str]) -> None:
+    for path in paths:
+        if str(path).lower() in _BUDGET_UNIT_WORDS and not os.path.lexists(path):
+            raise UsageError(
+                f"{path}: no such file or folder; a budget is written in one piece, e.g. --budget 80w "
+                "(words), --budget 3 (sentences), --budget 10% (of the document)"
+            )
+
+
 @main.command()
 @_read_limit_options
 @click.argument("paths", nargs=-1, type=click.Path())
@@ -227,6 +242,7 @@ def run(ctx, paths, db_path, methods, budget, mmr, workers, scheduler, until, ma
         raise UsageError("give at least one PATH (or a --job file with paths)")
     if not db_path:
         raise UsageError("--db is required (or a --job file with db)")
+    _refuse_budget_units_as_paths(paths)
     given_seq2seq = {
         "model": model,
         "allow_pickle": allow_pickle_weights or None,

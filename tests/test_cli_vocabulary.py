@@ -57,10 +57,10 @@ def summary_count(db: Path) -> int:
 def test_a_budget_written_as_two_words_is_caught(scored, tmp_path):
     archive, _ = scored
     db = tmp_path / "new.sqlite"
-    result = invoke("run", archive, "words", "--db", db, "--budget", "80", "--quiet")
-    assert result.exit_code == 3  # 80 is 80 sentences; the stray word is named as a missing path
-    one_error_line(result, "words: no such file or directory")
-    assert "every summary is already stored" not in result.output
+    result = invoke("run", archive, "--db", db, "--budget", "80", "words", "--quiet")
+    assert result.exit_code == 2  # the shell split "80 words": refused before any work
+    one_error_line(result, "words: no such file or folder", "--budget 80w")
+    assert not db.exists()
     db = tmp_path / "other.sqlite"
     spaced = invoke("run", archive, "--db", db, "--budget", "80 words")
     assert spaced.exit_code == 2 and "'80w' (words)" in spaced.stderr and not db.exists()
