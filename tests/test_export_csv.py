@@ -100,6 +100,6 @@ def test_unknown_or_ambiguous_choices_are_one_line_errors(store, tmp_path):
     with pytest.raises(SummaryChoiceError, match="several stored settings fit"):
         choose_summaries(store, method="lead")
     labels = [choice.label for choice in summary_choices(store)]
-    assert any(label.startswith("seq2seq · the method's own length: 0 to 40 generated tokens · ") for label in labels)
+    assert any(label.startswith("seq2seq · the method's own length: 0 to 40 generated tokens") for label in labels)
     assert not any(label.startswith("oracle") for label in labels)
     store.close()

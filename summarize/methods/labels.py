@@ -66,18 +66,27 @@ def _seq2seq_parts(params: dict) -> list[str]:
     return parts
 
 
-def setting_label(method: str, params: dict, with_budget: bool = True) -> str:
-    """``method · budget · what differs from the defaults`` (``with_budget=False``
-    leaves the budget out, for tables that state it once)."""
-    parts = [method]
-    if with_budget:
-        parts.append(_short_budget(params))
+def _settings_parts(method: str, params: dict) -> list[str]:
     if method == "seq2seq":
-        return SEPARATOR.join(parts + _seq2seq_parts(params))
+        return _seq2seq_parts(params)
     defaults = _defaults(method)
+    parts = []
     for key in sorted(params):
         value = params[key]
         if key in _OMITTED or (key in defaults and defaults[key] == value) or value is None:
             continue
         parts.append(_NAMED[key](value) if key in _NAMED else f"{key.replace('_', ' ')} {_value(value)}")
+    return parts
+
+
+def settings_label(method: str, params: dict) -> str:
+    """What differs from the method's defaults, without method and budget (empty when
+    nothing does): the part of a label that tells two settings of one method apart."""
+    return SEPARATOR.join(_settings_parts(method, params))
+
+
+def setting_label(method: str, params: dict, with_budget: bool = True) -> str:
+    """``method · budget · what differs from the defaults`` (``with_budget=False``
+    leaves the budget out, for tables that state it once)."""
+    parts = [method, *([_short_budget(params)] if with_budget else []), *_settings_parts(method, params)]
     return SEPARATOR.join(parts)

@@ -32,10 +32,10 @@ from store.errors import SummarizerError
 from store.exports import ExportRow
 from store.store import Store
 from summarize.evaluation.budget_labels import budget_label
-from summarize.methods.labels import setting_label
+from summarize.methods.labels import setting_label, settings_label
 from summarize.output import strict_json
 from summarize.output.caution import CAUTION
-from summarize.output.summary_choice import SummaryChoice, choose_summaries, settings_text
+from summarize.output.summary_choice import SummaryChoice, choose_summaries
 from summarize.output.written import atomic_text_file, check_output_path
 
 FORMATS = ("csv", "jsonl", "md", "html")
@@ -58,7 +58,7 @@ def spreadsheet_cell(value):
 
 
 def _labels(row: ExportRow) -> dict:
-    return {"budget": budget_label(row.params), "settings": settings_text(row.params)}
+    return {"budget": budget_label(row.params), "settings": settings_label(row.method, row.params)}
 
 
 def date_label(row: ExportRow) -> str:

@@ -11,37 +11,19 @@ offered only when asked for by name.
 from __future__ import annotations
 
 import hashlib
-import json
 from dataclasses import dataclass
 
 from store.errors import UsageError
 from store.store import Store
-from summarize.evaluation.budget_labels import BUDGET_RULE_KEY, MATCHED_LABEL, budget_label
+from summarize.evaluation.budget_labels import MATCHED_LABEL, budget_label
 from summarize.methods.budget import Budget
+from summarize.methods.labels import SEPARATOR, settings_label
 
 EVALUATION_ONLY_METHODS = ("oracle", "random")
-_SETTING_NAMES = {"mmr_lambda": "MMR λ"}
 
 
 class SummaryChoiceError(UsageError):
     """No stored summaries fit the method, budget or setting asked for, or several do."""
-
-
-def settings_text(params: dict) -> str:
-    """The parameters other than the budget, as ``name value`` pairs."""
-    parts = []
-    for name, value in sorted(params.items()):
-        if name in ("budget", BUDGET_RULE_KEY) or value is None:
-            continue
-        shown = json.dumps(value, sort_keys=True, ensure_ascii=False) if isinstance(value, dict | list) else value
-        parts.append(f"{_SETTING_NAMES.get(name, name.replace('_', ' '))} {shown}")
-    return ", ".join(parts)
-
-
-def setting_label(method: str, params: dict) -> str:
-    """``method · budget · settings``, e.g. ``textrank · 3 sentences · MMR λ 0.7``."""
-    settings = settings_text(params)
-    return " · ".join([method, budget_label(params), *([settings] if settings else [])])
 
 
 @dataclass(frozen=True)
@@ -60,7 +42,7 @@ class SummaryChoice:
 
     @property
     def label(self) -> str:
-        return " · ".join([self.method, self.budget, *([self.settings] if self.settings else [])])
+        return SEPARATOR.join([self.method, self.budget, *([self.settings] if self.settings else [])])
 
 
 def summary_choices(store: Store, include_evaluation: bool = False) -> list[SummaryChoice]:
@@ -69,7 +51,7 @@ def summary_choices(store: Store, include_evaluation: bool = False) -> list[Summ
     for row in store.exports.settings():
         if row["method"] in EVALUATION_ONLY_METHODS and not include_evaluation:
             continue
-        key = (row["method"], budget_label(row["params"]), settings_text(row["params"]))
+        key = (row["method"], budget_label(row["params"]), settings_label(row["method"], row["params"]))
         group = grouped.setdefault(key, {"hashes": [], "documents": 0})
         group["hashes"].append(row["param_hash"])
         group["documents"] += row["documents"]

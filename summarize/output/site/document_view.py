@@ -9,8 +9,8 @@ import string
 from dataclasses import dataclass, field
 
 from summarize.evaluation.rouge import METRIC_LABELS, METRICS
+from summarize.methods.labels import setting_label
 from summarize.output.site.source_marks import SourceMarks, SourcePiece, span_anchor
-from summarize.output.summary_choice import setting_label
 
 # A source link at least this similar is the sentence itself (extractive).
 _VERBATIM = 0.999
