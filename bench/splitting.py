@@ -16,7 +16,6 @@ text without sentence punctuation.
 from __future__ import annotations
 
 import argparse
-import io
 import random
 import tempfile
 import textwrap
@@ -32,7 +31,6 @@ from store.records import Document, Span
 from summarize.reading.ingest import iter_archive
 from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import split_document
-from summarize.runs.progress import Progress
 from summarize.runs.runner import run_archive
 
 # One try each: the previous splitter alone takes minutes on 150 long reports.
@@ -121,7 +119,6 @@ def bench_run(archive: Path, workdir: Path, old: PysbdOnly, new: SentenceSplitte
             started = time.perf_counter()
             report = run_archive(
                 [archive], str(db), methods=["lead", "tfidf", "textrank"], splitter=splitter,
-                progress=Progress(stream=io.StringIO()),
             )
             best = min(best, time.perf_counter() - started)
             summarized = report.documents_summarized
