@@ -47,7 +47,7 @@ test: lint browser
 check: install
 	$(BIN)/ruff check .
 	$(BIN)/lint-imports
-	$(BIN)/python -m pytest -q -m "not slow"
+	$(BIN)/python -m pytest -q -m "not slow" -n auto
 
 bench: install
 	$(BIN)/python -m bench
