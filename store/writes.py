@@ -1,8 +1,9 @@
-"""Writing to the store: idempotent, one small transaction per document.
+"""Writing to the store: idempotent, one nested transaction per document.
 
 A rerun finds what is already there by natural keys (record key + content hash for
 documents; document + method + parameter hash for summaries) and adds only what is
-missing, so an interrupted run loses at most the document in flight.
+missing. A run commits documents in groups (:meth:`StoreWrites.write_groups`), so an
+interrupted run loses at most the group in flight.
 
 Every write goes through :meth:`Store.transaction <store.store.Store.transaction>`.
 """
@@ -18,6 +19,7 @@ from store.records import Document, Segmentation, Summary
 from store.reference_history import replace_reference
 from store.references import References
 from store.runs import now
+from store.write_groups import DEFAULT_GROUP_DOCUMENTS, DEFAULT_GROUP_SECONDS, WriteGroups
 
 
 class StoreWrites:
@@ -34,6 +36,12 @@ class StoreWrites:
         marks = ", ".join("?" for _ in row)
         cursor = self.db.conn.execute(f'insert into "{table}" ({columns}) values ({marks})', list(row.values()))
         return cursor.lastrowid
+
+    def write_groups(
+        self, max_documents: int = DEFAULT_GROUP_DOCUMENTS, max_seconds: float = DEFAULT_GROUP_SECONDS
+    ) -> WriteGroups:
+        """Documents written inside commit together, many at a time (``store/write_groups.py``)."""
+        return WriteGroups(self, max_documents, max_seconds)
 
     # documents --------------------------------------------------------------------
 

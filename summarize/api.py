@@ -67,6 +67,8 @@ def run(
         scheduler=settings.scheduler,
         stop=settings.stop_conditions(),
         lock_wait_seconds=settings.wait_lock,
+        group_documents=settings.group_documents,
+        group_seconds=settings.group_seconds,
         progress=progress,
         config_extra={"settings": settings.as_config()},
         **({"limits": limits} if limits is not None else {}),

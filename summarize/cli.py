@@ -188,6 +188,10 @@ def _refuse_budget_units_as_paths(paths: list[str]) -> None:
               help="MMR redundancy control for tfidf/textrank: λ in [0, 1] (1 = relevance only).")
 @click.option("--workers", default=None, type=click.IntRange(1), show_default=str(_DEFAULTS.workers),
               help="Local worker processes for the per-document work (the store has one writer).")
+@click.option("--group-documents", default=None, type=click.IntRange(1), show_default=str(_DEFAULTS.group_documents),
+              help="Commit stored documents together, this many per transaction at most.")
+@click.option("--group-seconds", default=None, type=click.FloatRange(0), show_default=str(_DEFAULTS.group_seconds),
+              help="... or after this many seconds, whichever comes first (a kill loses at most one group).")
 @click.option("--scheduler", default=None, help="Address of a Dask scheduler (tcp://HOST:PORT) to send the work to.")
 @click.option("--until", default=None, help="Stop cleanly between documents at this local time (HH:MM).")
 @click.option("--max-minutes", default=None, type=click.FloatRange(0, min_open=True), help="Stop cleanly after this many minutes.")
@@ -223,7 +227,7 @@ def _refuse_budget_units_as_paths(paths: list[str]) -> None:
 @click.option("--long-mode", type=click.Choice(["select", "chunks"]), default=None,
               help="seq2seq: read the most salient sentences that fit (select, default) or the whole document in chunks.")
 @click.pass_context
-def run(ctx, paths, db_path, methods, budget, mmr, workers, scheduler, until, max_minutes, wait_lock, log, quiet,
+def run(ctx, paths, db_path, methods, budget, mmr, workers, group_documents, group_seconds, scheduler, until, max_minutes, wait_lock, log, quiet,
         text_field, title_field, summary_field, date_field, id_field, as_json, exclude, strict_exit, abbreviation, model,
         allow_pickle_weights, seq2seq_profile, threads, batch_size, quantize, max_input_tokens, long_mode,
         **read_options):
@@ -254,7 +258,8 @@ def run(ctx, paths, db_path, methods, budget, mmr, workers, scheduler, until, ma
         "long_mode": long_mode,
     }
     settings = RunSettings.from_job(job).with_changes(
-        methods=_methods(methods), budget=budget, mmr=mmr, workers=workers, scheduler=scheduler, until=until,
+        methods=_methods(methods), budget=budget, mmr=mmr, workers=workers, group_documents=group_documents,
+        group_seconds=group_seconds, scheduler=scheduler, until=until,
         max_minutes=max_minutes, wait_lock=wait_lock, text_field=text_field, title_field=title_field,
         summary_field=summary_field, date_field=date_field, id_field=id_field,
     )

@@ -41,6 +41,9 @@ from summarize.runs.stopping import StopConditions, parse_until
 ARCHIVE_SIZE = 50
 KILL_ROUNDS = 10
 KILL_SEED = 20250611
+# Small groups, committed by count only, so a run holds many groups and every kill
+# lands inside one (the reference run keeps the default grouping).
+GROUP_DOCUMENTS = 4
 
 
 @pytest.fixture(scope="module")
@@ -62,9 +65,11 @@ def archive_and_reference(tmp_path_factory):
 
 
 def _killed_run(archive: Path, db: Path, delay: float) -> int | None:
-    """Start a run, kill -9 it ``delay`` seconds after it took the store's lock;
-    returns its pid, or None when it had already finished."""
-    process = start_cli("run", str(archive), "--db", str(db), "--quiet")
+    """Start a run that commits documents in groups of ``GROUP_DOCUMENTS``, kill -9 it
+    ``delay`` seconds after it took the store's lock; returns its pid, or None when
+    it had already finished."""
+    process = start_cli("run", str(archive), "--db", str(db), "--quiet",
+                        "--group-documents", str(GROUP_DOCUMENTS), "--group-seconds", "600")
     assert wait_for(lambda: Path(f"{db}.lock").exists() or process.poll() is not None, 120)
     time.sleep(delay)
     killed = process.poll() is None
@@ -91,6 +96,7 @@ def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archiv
                 leftover.unlink()
         if db.exists():
             assert_store_sound(db)
+            _assert_whole_groups(db)
         lock_left = Path(f"{db}.lock").exists()  # not when killed after releasing it
         messages = io.StringIO()
         rerun = run_archive([archive], str(db), progress=TerminalProgress(stream=messages))
@@ -104,6 +110,19 @@ def test_kill_9_at_random_moments_then_rerun_ends_as_an_uninterrupted_run(archiv
         # after recording its own end (or before recording its start).
         assert statuses in ([], ["interrupted"], ["completed"])
         assert not Path(f"{db}.lock").exists()
+
+
+def _assert_whole_groups(db: Path) -> None:
+    """A killed run left whole groups only: the documents stored, and the documents
+    summarized, are a multiple of the group size (or all of them)."""
+    with sqlite3.connect(db) as conn:
+        tables = {name for (name,) in conn.execute("select name from sqlite_master where type = 'table'")}
+        if "documents" not in tables:
+            return
+        stored = conn.execute("select count(*) from documents").fetchone()[0]
+        summarized = conn.execute("select count(distinct document_id) from summaries").fetchone()[0]
+    for count in (stored, summarized):
+        assert count % GROUP_DOCUMENTS == 0 or count == ARCHIVE_SIZE, (stored, summarized)
 
 
 @pytest.mark.slow
@@ -148,7 +167,8 @@ def test_time_budget_stops_cleanly_reports_what_remains_and_a_rerun_finishes(arc
 def test_sigterm_stops_after_the_document_in_flight(archive_and_reference, tmp_path):
     archive, reference, _ = archive_and_reference
     db = tmp_path / "sigterm.sqlite"
-    process = start_cli("run", str(archive), "--db", str(db), "--json")
+    # Groups of one: the first committed summary shows the summarizing pass under way.
+    process = start_cli("run", str(archive), "--db", str(db), "--json", "--group-documents", "1")
     assert wait_for(lambda: count_rows(db, "summaries") > 0 or process.poll() is not None, 120, interval=0.01)
     process.send_signal(signal.SIGTERM)
     out, err = process.communicate(timeout=60)

@@ -93,6 +93,7 @@ def _summarize_in_worker(document: Document, segmentation: Segmentation, names: 
 
 class InProcessExecutor:
     document_seconds = 0.0
+    results_waiting = 0  # each result is written as soon as it is computed
 
     def __init__(self, methods: list):
         self.methods = {method.name: method for method in methods}
@@ -123,6 +124,8 @@ class _WindowedExecutor(ABC):
 
     window = 4
     document_seconds = 0.0
+    # Results already finished but not yet handed over, counted at each hand-over.
+    results_waiting = 0
 
     @abstractmethod
     def _submit_split(self, document: Document, splitter: SentenceSplitter | None):
@@ -170,6 +173,7 @@ class _WindowedExecutor(ABC):
             if not in_flight:
                 return
             document, future = in_flight.popleft()
+            self.results_waiting = sum(other.done() for _, other in in_flight)
             yield document, self._result(future, lambda error: error)
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
@@ -190,6 +194,7 @@ class _WindowedExecutor(ABC):
                 return
             for future in self._wait_any(set(in_flight)):
                 document_id, document, names = in_flight.pop(future)
+                self.results_waiting = sum(other.done() for other in in_flight)
                 yield document_id, document, self._result(future, lambda error, names=names: [(name, error) for name in names])
 
 

@@ -46,6 +46,8 @@ RUN_KEYS = {
     "until": str,
     "max_minutes": (int, float),
     "wait_lock": (int, float),
+    "group_documents": int,
+    "group_seconds": (int, float),
     "log": str,
     "text_field": str,
     "title_field": str,

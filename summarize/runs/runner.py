@@ -4,18 +4,20 @@
 
 Two passes, one direction:
 
-1. *Read*: every file is read, and split and stored (one small transaction per
-   document) unless the same record with the same content hash is already stored;
+1. *Read*: every file is read, and split and stored unless the same record with the same content hash is already stored;
    splitting runs wherever the summaries will (here, worker processes, Dask). Unreadable
    files are recorded with their reason; stored records whose file has gone are
    marked ``missing``, never deleted.
 2. *Summarize*: archive-wide statistics are fitted on the documents read (TF-IDF's
    IDF), then every (document, method, parameter hash) not yet stored is computed —
    here, in worker processes, or on a Dask cluster — and written by this process
-   alone, one document per transaction.
+   alone.
 
-So an interrupted run loses at most the documents in flight, and a rerun does only
-what is missing. The run stops cleanly between documents at its time budget or on
+Both passes commit documents in groups (up to ``group_documents`` documents or
+``group_seconds`` seconds per transaction, whichever comes first), so an interrupted
+run loses at most the group in flight, and a rerun does only what is missing. Each
+pass reports the writer's load (busy share, results waiting for it) in its progress
+output and in the run record's counts (``writer``). The run stops cleanly between documents at its time budget or on
 SIGINT/SIGTERM, and says how much remains.
 """
 
@@ -33,6 +35,7 @@ from store.lock import describe_holder
 from store.records import Document, param_hash
 from store.runs import recorded_run
 from store.store import Store
+from store.write_groups import DEFAULT_GROUP_DOCUMENTS, DEFAULT_GROUP_SECONDS
 from summarize.methods.budget import Budget
 from summarize.methods.contract import BatchCapable, NeedsLoading, ResolvedAtRunTime, SkipsDocuments
 from summarize.methods.registry import DEFAULT_BUDGET, RUNNABLE, MethodSettings, build_method, check_names
@@ -45,6 +48,7 @@ from summarize.runs.known_failures import FailureSorter
 from summarize.runs.progress import ProgressCallback, ProgressTracker
 from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
+from summarize.runs.writer_load import WriterLoad
 
 # Exit statuses of `summarize run` beyond an error's own (the README's table).
 EXIT_OK = 0
@@ -76,6 +80,7 @@ class RunReport:
     references_changed: list[str] = field(default_factory=list)
     seconds: float = 0.0
     documents_summarized: int = 0
+    writer: dict = field(default_factory=dict)
 
     @property
     def exit_status(self) -> int:
@@ -106,6 +111,7 @@ class RunReport:
             "stop_reason": self.stop_reason,
             "seconds": round(self.seconds, 3),
             "documents_per_second": round(self.documents_summarized / self.seconds, 3) if self.seconds else None,
+            "writer": self.writer,
         }
 
 
@@ -127,7 +133,7 @@ def _under(record_key: str, roots: list[str]) -> bool:
 
 
 def _read_archive(
-    store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter
+    store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter, grouping
 ) -> list[int]:
     """Pass 1. Returns the ids of the current, non-duplicate documents seen; a stopped
     pass sets ``report.unread`` to the files it did not read to the end.
@@ -194,20 +200,34 @@ def _read_archive(
                                 f"{item.record_key}: reference summary {change}; earlier scores kept as history"
                             )
                     tracker.done(item.path)
+                    groups.document_written()
                 else:
                     yield item
         tracker.walk_ended()
 
     progress.start(None, "files read")
     document_seconds = reading["limits"].document_seconds
-    with make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor:
+    load = WriterLoad()
+    load.start()
+    with (
+        make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor,
+        store.write_groups(**grouping) as groups,
+    ):
         for document, segmentation in executor.split_documents(new_documents(), stop, splitter):
-            if isinstance(segmentation, Exception):
-                failures.document_failed(document.record_key, document.sha256, str(segmentation))
-            else:
-                counted(*store.add_document(document, segmentation, run_id))
-            tracker.done(document.path)
+            with load.writing(executor.results_waiting):
+                if isinstance(segmentation, Exception):
+                    failures.document_failed(document.record_key, document.sha256, str(segmentation))
+                else:
+                    counted(*store.add_document(document, segmentation, run_id))
+                tracker.done(document.path)
+                groups.document_written()
+            if load.due():
+                progress.message(load.line("reading"))
+    load.stop()
+    report.writer["reading"] = {**load.counts(), "groups": groups.groups_committed}
     progress.close()
+    if report.documents_added:
+        progress.message(load.line("reading"))
     # An executor that stops early leaves this walk unfinished without a word: only
     # a walk that reached its end, with nothing still out, has read the archive.
     if not tracker.everything_read:
@@ -249,6 +269,8 @@ def run_archive(
     exclude: Sequence[str] = (),
     strict_exit: bool = False,
     splitter: SentenceSplitter | None = None,
+    group_documents: int = DEFAULT_GROUP_DOCUMENTS,
+    group_seconds: float = DEFAULT_GROUP_SECONDS,
 ) -> RunReport:
     """Summarize every document under ``paths`` into the store at ``db_path``.
 
@@ -258,7 +280,8 @@ def run_archive(
     are followed only with ``follow_links_outside``; ``exclude`` patterns leave paths
     out (``summarize.reading.exclusions``); ``strict_exit`` makes known failures count
     in the exit status as new ones do; ``splitter`` cuts new documents into
-    sentences (default: the report abbreviations, nothing added). Raises
+    sentences (default: the report abbreviations, nothing added); ``group_documents``
+    and ``group_seconds`` bound each transaction of stored documents. Raises
     :class:`~store.lock.StoreLocked` when another run holds the store.
     """
     paths = [str(p) for p in paths]
@@ -285,6 +308,7 @@ def run_archive(
         "deadline": stop.deadline().isoformat(timespec="minutes") if stop.deadline() else None,
         "exclude": list(exclude),
         "strict_exit": strict_exit,
+        "write_groups": {"documents": group_documents, "seconds": group_seconds},
         **(config_extra or {}),
     }
     with recorded_run(db_path, "run", config, lock_wait_seconds, progress.message) as run, stop:
@@ -300,8 +324,9 @@ def run_archive(
         report = RunReport(run_id=run_id, strict_exit=strict_exit)
         try:
             reading = {"limits": limits, "follow_links_outside": follow_links_outside, "exclude": exclude}
+            grouping = {"max_documents": group_documents, "max_seconds": group_seconds}
             read_ids = _read_archive(
-                store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter
+                store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter, grouping
             )
             # A copy read before its original was made the original's duplicate since.
             document_ids = store.still_active(read_ids)
@@ -321,7 +346,9 @@ def run_archive(
                     lambda ids: _pending(store, ids, active),
                 )
             else:
-                _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler)
+                _summarize_all(
+                    store, run_id, document_ids, active, report, progress, stop, workers, scheduler, grouping
+                )
             report.stop_reason = stop.reason()
             if report.stop_reason:
                 unread = (
@@ -383,7 +410,7 @@ def _pending(
     return todo
 
 
-def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler) -> None:
+def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler, grouping) -> None:
     """Pass 2: fit archive statistics, then compute and store what is missing."""
     todo = _pending(store, document_ids, active, report)
     failures = FailureSorter(store, run_id, report, progress)
@@ -410,10 +437,18 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
         for document_id, names in list(todo.items())
         if names & per_document_names
     )
-    with make_executor(per_document, workers=workers, scheduler=scheduler) as executor:
+    load = WriterLoad()
+    load.start()
+    with make_executor(per_document, workers=workers, scheduler=scheduler) as executor, store.write_groups(**grouping) as groups:
         for document_id, document, outcomes in executor.map_documents(jobs, stop):
-            _store_outcomes(store, run_id, document_id, document, outcomes, report, failures)
+            with load.writing(executor.results_waiting):
+                _store_outcomes(store, run_id, document_id, document, outcomes, report, failures)
+                groups.document_written()
             finished(document_id, {name for name, _ in outcomes})
+            if load.due():
+                progress.message(load.line("summarizing"))
+    load.stop()
+    report.writer["summarizing"] = {**load.counts(), "groups": groups.groups_committed}
     for method in batched:
         wanted = [d for d, names in todo.items() if method.name in names]
         size = method.batch_documents
@@ -426,11 +461,14 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
                 _store_outcomes(store, run_id, document_id, document, [(method.name, outcome)], report, failures)
                 finished(document_id, {method.name})
     progress.close()
+    if load.samples:
+        progress.message(load.line("summarizing"))
     report.documents_remaining = len(todo)
 
 
 def _store_outcomes(store, run_id, document_id, document, outcomes, report, failures: FailureSorter) -> None:
-    """One transaction for all of a document's new summaries (and failures)."""
+    """One nested transaction for all of a document's new summaries (and failures),
+    inside the group being written."""
     with store.transaction():
         for method_name, outcome in outcomes:
             if isinstance(outcome, Exception):

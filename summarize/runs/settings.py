@@ -12,6 +12,7 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field, fields, replace
 
 from store.errors import UsageError
+from store.write_groups import DEFAULT_GROUP_DOCUMENTS, DEFAULT_GROUP_SECONDS
 from summarize.methods.budget import Budget
 from summarize.methods.registry import RUNNABLE, MethodSettings, check_names
 from summarize.reading.ingest import RecordFields
@@ -33,6 +34,8 @@ class RunSettings:
     until: str | None = None
     max_minutes: float | None = None
     wait_lock: float = 0.0
+    group_documents: int = DEFAULT_GROUP_DOCUMENTS
+    group_seconds: float = DEFAULT_GROUP_SECONDS
     text_field: str = "text"
     title_field: str = "title"
     summary_field: str = "summary"
@@ -84,6 +87,10 @@ class RunSettings:
             raise UsageError(f"mmr must be in [0, 1], got {self.mmr}")
         if self.workers < 1:
             raise UsageError(f"workers must be at least 1, got {self.workers}")
+        if self.group_documents < 1:
+            raise UsageError(f"group_documents must be at least 1, got {self.group_documents}")
+        if self.group_seconds < 0:
+            raise UsageError(f"group_seconds must be 0 or more, got {self.group_seconds}")
         if "seq2seq" in names and not self.seq2seq.get("model"):
             raise UsageError("the seq2seq method needs a model (--model DIR, or model in the job file's [seq2seq] table)")
         if self.seq2seq.get("model") and "seq2seq" not in names:
