@@ -3,13 +3,18 @@ and the writer's load (busy share, results waiting) as a run reports it."""
 
 from __future__ import annotations
 
+import io
+import json
 import sqlite3
 
 import pytest
+from operations_support import generated_archive
 
 from store.records import Document, Segmentation, Span
 from store.store import Store
 from summarize.runs import writer_load
+from summarize.runs.progress import TerminalProgress
+from summarize.runs.runner import run_archive
 from summarize.runs.writer_load import WriterLoad
 
 
@@ -108,3 +113,21 @@ def test_writer_load_busy_share_waiting_and_the_verdict(monkeypatch):
     saturated.stop()
     assert saturated.bound and "writer-bound" in saturated.line("summarizing")
     assert saturated.counts()["writer_bound"] is True
+
+
+def test_a_run_commits_in_groups_and_records_the_writer_load(tmp_path):
+    archive = generated_archive(tmp_path / "archive", 12, seed=5)
+    db = tmp_path / "store.sqlite"
+    messages = io.StringIO()
+    report = run_archive([archive], str(db), group_documents=5, group_seconds=3600,
+                         progress=TerminalProgress(stream=messages))
+    assert report.exit_status == 0
+    with sqlite3.connect(db) as conn:
+        config, counts = (json.loads(cell) for cell in conn.execute("select config, counts from runs").fetchone())
+    assert config["write_groups"] == {"documents": 5, "seconds": 3600}
+    for label in ("reading", "summarizing"):
+        writer = counts["writer"][label]
+        assert writer["groups"] == 3  # 5 + 5 + 2 documents
+        assert 0 < writer["busy_seconds"] <= writer["seconds"]
+        assert writer["busy_share"] == pytest.approx(writer["busy_seconds"] / writer["seconds"], abs=0.01)
+        assert f"writer ({label}): busy " in messages.getvalue()
