@@ -4,10 +4,10 @@
 
 Two passes, one direction:
 
-1. *Read*: every file is read, and split and stored unless the same record with the same content hash is already stored;
-   splitting runs wherever the summaries will (here, worker processes, Dask). Unreadable
-   files are recorded with their reason; stored records whose file has gone are
-   marked ``missing``, never deleted.
+1. *Read*: every file is read, and split and stored unless the same record with the
+   same content hash is already stored; splitting runs wherever the summaries will
+   (here, worker processes, Dask). Unreadable files are recorded with their reason;
+   stored records whose file has gone are marked ``missing``, never deleted.
 2. *Summarize*: archive-wide statistics are fitted on the documents read (TF-IDF's
    IDF), then every (document, method, parameter hash) not yet stored is computed —
    here, in worker processes, or on a Dask cluster — and written by this process
@@ -17,8 +17,8 @@ Both passes commit documents in groups (up to ``group_documents`` documents or
 ``group_seconds`` seconds per transaction, whichever comes first), so an interrupted
 run loses at most the group in flight, and a rerun does only what is missing. Each
 pass reports the writer's load (busy share, results waiting for it) in its progress
-output and in the run record's counts (``writer``). The run stops cleanly between documents at its time budget or on
-SIGINT/SIGTERM, and says how much remains.
+output and in the run record's counts (``writer``). The run stops cleanly between
+documents at its time budget or on SIGINT/SIGTERM, and says how much remains.
 """
 
 from __future__ import annotations
