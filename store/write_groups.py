@@ -23,7 +23,8 @@ class WriteGroups:
     Each document's own writes stay in their nested transaction (a savepoint), so a
     document that fails to write is undone alone and the group goes on. Use as a
     context manager around the loop, calling :meth:`document_written` after each
-    document; leaving the block commits the last group, and an exception rolls it back.
+    document; leaving the block commits the last group (also on Ctrl-C), and any other
+    exception rolls it back.
     """
 
     def __init__(self, store, max_documents: int = DEFAULT_GROUP_DOCUMENTS, max_seconds: float = DEFAULT_GROUP_SECONDS):
@@ -42,9 +43,15 @@ class WriteGroups:
     def __exit__(self, kind, error, trace) -> bool:
         opened, self._open = self._open, None
         if opened is not None:
-            # Passing the exception on rolls the group back; without one it commits.
-            opened.__exit__(kind, error, trace)
-            self.groups_committed += error is None and self._documents > 0
+            # A Ctrl-C leaves every finished document whole (the one in flight has
+            # already rolled back its own savepoint), so the group is kept; any other
+            # exception is passed on, which rolls the group back.
+            interrupted = isinstance(error, KeyboardInterrupt)
+            if interrupted:
+                opened.close()
+            else:
+                opened.__exit__(kind, error, trace)
+            self.groups_committed += (error is None or interrupted) and self._documents > 0
         return False
 
     def _begin(self) -> None:

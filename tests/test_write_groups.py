@@ -89,6 +89,19 @@ def test_a_failing_document_is_undone_alone_and_an_error_undoes_the_group(tmp_pa
     assert _committed(path) == 2
 
 
+
+def test_ctrl_c_keeps_the_finished_documents_of_the_open_group(tmp_path):
+    # External check: SQLite transactions and savepoints (sqlite.org/lang_transaction.html, lang_savepoint.html)
+    path = tmp_path / "groups.sqlite"
+    store = Store(str(path))
+    run_id = store.runs.begin("run", {})
+    with pytest.raises(KeyboardInterrupt), store.write_groups(max_documents=10, max_seconds=3600) as groups:
+        for number in range(2):
+            store.add_document(*_document(number), run_id)
+            groups.document_written()
+        raise KeyboardInterrupt
+    assert _committed(path) == 2
+
 def test_writer_load_busy_share_waiting_and_the_verdict(monkeypatch):
     clock = iter([0.0, 1.0, 3.0, 3.0, 4.0, 10.0, 10.0, 10.0])
     monkeypatch.setattr(writer_load.time, "monotonic", lambda: next(clock))
