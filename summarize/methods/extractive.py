@@ -63,6 +63,19 @@ def rank_by_score(scores: np.ndarray, candidates: list[int]) -> list[int]:
     return sorted(candidates, key=lambda i: (-scores[i], i))
 
 
+def extracted_sentences(
+    document: Document, segmentation: Segmentation, chosen: list[int], scores: np.ndarray
+) -> list[SummarySentence]:
+    """The ``chosen`` sentences in the order given, each quoting its source span exactly."""
+    return [
+        SummarySentence(
+            text=segmentation.sentences[i].slice(document.text),
+            score=float(scores[i]),
+            sources=(SourceLink(segmentation.sentences[i], 1.0),),
+        )
+        for i in chosen
+    ]
+
 def build_summary(
     method: str,
     params: dict,
@@ -73,18 +86,10 @@ def build_summary(
     started: float,
 ) -> Summary:
     """A Summary of the ``chosen`` sentences (document order), each with its span and score."""
-    sentences = [
-        SummarySentence(
-            text=segmentation.sentences[i].slice(document.text),
-            score=float(scores[i]),
-            sources=(SourceLink(segmentation.sentences[i], 1.0),),
-        )
-        for i in chosen
-    ]
     return Summary(
         method=method,
         params=params,
-        sentences=sentences,
+        sentences=extracted_sentences(document, segmentation, chosen, scores),
         seconds=time.perf_counter() - started,
         details={"sentence_indices": chosen, "document_sentences": len(segmentation.sentences)},
     )

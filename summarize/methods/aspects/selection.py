@@ -8,12 +8,18 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from store.aspect_records import AspectSummary
-from store.records import Document, Segmentation, SourceLink, SummarySentence
+from store.records import Document, Segmentation
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import QueryBiasedLexRank
 from summarize.methods.aspects.relevance import QueryRelevance
 from summarize.methods.budget import Budget, count_words
-from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
+from summarize.methods.extractive import (
+    CosineRows,
+    extracted_sentences,
+    mmr_order,
+    rank_by_score,
+    selectable_sentences,
+)
 
 ASPECT_BUDGET = Budget(sentences=2)
 
@@ -49,14 +55,7 @@ def aspect_summary(
     details: dict,
 ) -> AspectSummary:
     """An AspectSummary of the ``chosen`` sentences in document order."""
-    sentences = [
-        SummarySentence(
-            text=segmentation.sentences[i].slice(document.text),
-            score=float(scores[i]),
-            sources=(SourceLink(segmentation.sentences[i], 1.0),),
-        )
-        for i in sorted(chosen)
-    ]
+    sentences = extracted_sentences(document, segmentation, sorted(chosen), scores)
     return AspectSummary(aspect.name, method, aspect_params(params, aspect), sentences, round(float(confidence), 4),
                          details | {"sentence_indices": sorted(chosen)})
 
