@@ -41,7 +41,7 @@ def _document(key: str, folder: str, title: str, text: str, date: str | None, fm
     path = f"/archive/{folder}/{key}.{fmt}"
     return Document(
         record_key=path, path=path, text=text, format=fmt, sha256=_sha(key + text), size=len(text.encode()),
-        title=title, date=date, reference_summary=reference, reference_source="sidecar:test" if reference else None,
+        title=title, date=date, date_source="document text" if date else None, reference_summary=reference, reference_source="sidecar:test" if reference else None,
     )
 
 

@@ -184,6 +184,13 @@ def test_document_page_links_sentences_to_their_spans(site):
     assert first["title"].startswith("Used by A:")
 
 
+def test_document_page_says_where_its_date_came_from(site):
+    path, _, client = site
+    dated = sqlite3.connect(path).execute("select id, date from documents where date is not null").fetchone()
+    page = _soup(_get(client, f"/document/{dated[0]}"))
+    date = next(dd for dt, dd in zip(page.select("dl.meta dt"), page.select("dl.meta dd")) if dt.get_text() == "Date")
+    assert date.get_text(" ", strip=True) == f"{dated[1]} (from document text)"
+
 def test_duplicate_links_to_its_canonical_copy(site):
     _, ids, client = site
     page = _soup(_get(client, f"/document/{ids['duplicate']}"))
