@@ -21,6 +21,7 @@ from scipy import sparse
 from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer
 
 from store.records import Document, Segmentation, SourceLink, Summary, SummarySentence
+from summarize.methods.archive_idf import fit_archive_idf
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.contract import ParamsFromFields
 from summarize.methods.graph import pagerank, top_k_symmetric
@@ -191,13 +192,10 @@ class TfidfSummarizer(ParamsFromFields):
 
     def fit(self, texts: Iterable[str]) -> TfidfSummarizer:
         """Fit IDF over the archive: one entry of ``texts`` per document (streamed once)."""
-        self.vectorizer_ = TfidfVectorizer(
-            stop_words=self.stop_words, sublinear_tf=self.sublinear_tf, smooth_idf=True, norm="l2"
+        self.vectorizer_ = fit_archive_idf(
+            TfidfVectorizer(stop_words=self.stop_words, sublinear_tf=self.sublinear_tf, smooth_idf=True, norm="l2"),
+            texts,
         )
-        try:
-            self.vectorizer_.fit(texts)
-        except ValueError:  # an archive without a single content word
-            self.vectorizer_.fit(["empty"])
         return self
 
     def sentence_scores(self, document: Document, segmentation: Segmentation) -> tuple[np.ndarray, sparse.csr_matrix]:

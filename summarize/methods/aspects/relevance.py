@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer
 
+from summarize.methods.archive_idf import fit_archive_idf
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import stemmed_words
 from summarize.methods.aspects.negation import NegationScope
@@ -37,11 +38,9 @@ class QueryRelevance:
     """
 
     def fit(self, texts: Iterable[str]) -> QueryRelevance:
-        self.vectorizer_ = TfidfVectorizer(analyzer=stemmed_words, smooth_idf=True, sublinear_tf=True, norm="l2")
-        try:
-            self.vectorizer_.fit(texts)
-        except ValueError:  # no content word anywhere
-            self.vectorizer_.fit(["empty"])
+        self.vectorizer_ = fit_archive_idf(
+            TfidfVectorizer(analyzer=stemmed_words, smooth_idf=True, sublinear_tf=True, norm="l2"), texts
+        )
         self.idf_ = dict(zip(self.vectorizer_.get_feature_names_out(), self.vectorizer_.idf_))
         self.max_idf_ = float(self.vectorizer_.idf_.max())
         return self

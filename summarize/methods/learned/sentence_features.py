@@ -20,6 +20,7 @@ from scipy.stats import rankdata
 from sklearn.feature_extraction.text import TfidfVectorizer
 
 from store.records import Document, Segmentation
+from summarize.methods.archive_idf import fit_archive_idf
 from summarize.methods.budget import count_words
 from summarize.methods.extractive import TextRankSummarizer
 from summarize.methods.graph import pagerank
@@ -130,11 +131,9 @@ class SentenceFeatures:
     stop_words: str | None = "english"
 
     def fit(self, texts: Iterable[str]) -> SentenceFeatures:
-        self.vectorizer_ = TfidfVectorizer(stop_words=self.stop_words, sublinear_tf=True, smooth_idf=True, norm="l2")
-        try:
-            self.vectorizer_.fit(texts)
-        except ValueError:  # not a single content word in the whole archive
-            self.vectorizer_.fit(["empty"])
+        self.vectorizer_ = fit_archive_idf(
+            TfidfVectorizer(stop_words=self.stop_words, sublinear_tf=True, smooth_idf=True, norm="l2"), texts
+        )
         return self
 
     def transform(self, document: Document, segmentation: Segmentation) -> np.ndarray:
