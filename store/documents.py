@@ -95,16 +95,15 @@ class DocumentReads:
         for document_id in document_ids:
             yield self.text(document_id)
 
-    def active_texts(self) -> list[str]:
-        """Texts of every active document: what archive-wide statistics are fitted on."""
-        return [row[0] for row in self.db.execute("select text from documents where status = 'active' order by id")]
+    def active_texts(self) -> ActiveTexts:
+        """Texts of every active document, what archive-wide statistics are fitted on:
+        read from the store each time they are iterated, never held all at once."""
+        return ActiveTexts(self.db)
 
-    def active(self) -> list[StoredVersion]:
-        """Every active document."""
-        return [
-            StoredVersion(*row)
-            for row in self.db.execute("select id, record_key, status from documents where status = 'active'")
-        ]
+    def active(self) -> Iterator[StoredVersion]:
+        """Every active document, one row at a time (from the index, without its text)."""
+        for row in self.db.execute("select id, record_key, status from documents where status = 'active'"):
+            yield StoredVersion(*row)
 
     def current(self) -> list[StoredVersion]:
         """Every active or duplicate document: the store's current version of each file."""
@@ -131,3 +130,15 @@ class DocumentReads:
                 reference = references.get(row[0])
                 found[row[0]] = DocumentBrief(*row, reference=reference.text if reference else None)
         return found
+
+
+class ActiveTexts:
+    """The texts of the active documents in id order, as an iterable that reads them
+    from the store on each pass (several methods may fit on it in turn)."""
+
+    def __init__(self, db):
+        self.db = db
+
+    def __iter__(self) -> Iterator[str]:
+        for (text,) in self.db.execute("select text from documents where status = 'active' order by id"):
+            yield text

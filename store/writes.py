@@ -11,6 +11,8 @@ Every write goes through :meth:`Store.transaction <store.store.Store.transaction
 from __future__ import annotations
 
 import json
+from array import array
+from collections.abc import Iterable
 
 import sqlite_utils
 
@@ -144,7 +146,7 @@ class StoreWrites:
                 make_canonical(self.db, self.references, document_id, twin[0])
         return document_id, True, status
 
-    def still_active(self, document_ids: list[int]) -> list[int]:
+    def still_active(self, document_ids: Iterable[int]) -> array:
         return still_active(self.db, document_ids)
 
     def refresh_reference(self, document_id: int, document: Document, run_id: int) -> str | None:

@@ -26,6 +26,7 @@ from __future__ import annotations
 import logging
 import os
 import time
+from array import array
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import asdict, dataclass, field
 from itertools import groupby
@@ -46,7 +47,7 @@ from summarize.reading.split import DEFAULT_SPLITTER
 from summarize.runs.executors import check_scheduler, make_executor
 from summarize.runs.known_failures import FailureSorter
 from summarize.runs.progress import ProgressCallback, ProgressTracker
-from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
+from summarize.runs.remaining import IdSet, ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
 from summarize.runs.writer_load import WriterLoad
 
@@ -134,22 +135,25 @@ def _under(record_key: str, roots: list[str]) -> bool:
 
 def _read_archive(
     store, run_id, paths, fields, report, progress, stop, workers, scheduler, reading, splitter, grouping
-) -> list[int]:
+) -> array:
     """Pass 1. Returns the ids of the current, non-duplicate documents seen; a stopped
     pass sets ``report.unread`` to the files it did not read to the end.
 
     This process reads the files and writes the store; splitting new documents into
     sentences (the costly part) goes to the executor, and comes back in archive order.
     """
-    seen_keys: set[str] = set()
-    files_visited: set[str] = set()
+    # Held per document: 8 bytes in document_ids, one bit in seen. Everything else
+    # is per file in flight, or per failure (few), so memory does not grow with the archive.
+    seen = IdSet()
+    split_failed: set[str] = set()
     files_failed: set[str] = set()
     unlisted: list[str] = []
-    document_ids: list[int] = []
+    document_ids = array("q")
     tracker = ReadingTracker()
     failures = FailureSorter(store, run_id, report, progress)
 
     def counted(document_id: int, added: bool, status: str) -> None:
+        seen.add(document_id)
         report.documents_seen += 1
         report.documents_added += int(added)
         if status == "duplicate":
@@ -165,11 +169,12 @@ def _read_archive(
         for file, items in groupby(iter_archive(paths, fields, **reading), key=lambda item: file_of(item.path)):
             items = list(items)
             tracker.starting(file, len(items))
+            if any(not isinstance(item, IngestProblem) for item in items):
+                progress.advance()
             for item in items:
                 if stop.reason():
                     return
                 if isinstance(item, IngestProblem):
-                    files_visited.add(file_of(item.path))
                     if item.unlisted:
                         unlisted.append(item.path)
                     if item.kind == "error":
@@ -185,10 +190,6 @@ def _read_archive(
                         report.skipped_files.append(str(item))
                     tracker.done(item.path)
                     continue
-                if item.path not in files_visited:
-                    files_visited.add(item.path)
-                    progress.advance()
-                seen_keys.add(item.record_key)
                 if store.find_document(item.record_key, item.sha256) is not None:
                     document_id, added, status = store.add_document(item, None, run_id)
                     counted(document_id, added, status)
@@ -216,6 +217,7 @@ def _read_archive(
         for document, segmentation in executor.split_documents(new_documents(), stop, splitter):
             with load.writing(executor.results_waiting):
                 if isinstance(segmentation, Exception):
+                    split_failed.add(document.record_key)
                     failures.document_failed(document.record_key, document.sha256, str(segmentation))
                 else:
                     counted(*store.add_document(document, segmentation, run_id))
@@ -237,15 +239,20 @@ def _read_archive(
         return document_ids
     roots = [os.path.abspath(p) for p in paths]
     excluded = ArchiveExclusions.load(roots, reading.get("exclude", ())).excludes
+    gone = []
     for stored in store.documents.active():
-        # A file that is still there but failed to read this time keeps its last good version;
-        # a document under a folder that could not be listed (or an absent root) may well be there;
-        # an excluded file is left as it was: nothing says it is gone.
+        # A file that is still there but failed to read (or split) this time keeps its
+        # last good version; a document under a folder that could not be listed (or an
+        # absent root) may well be there; an excluded file is left as it was: nothing
+        # says it is gone.
         key = stored.record_key
-        gone = key not in seen_keys and file_of(key) not in files_failed and _under(key, roots)
-        if gone and not _under(key, unlisted) and not excluded(file_of(key)):
-            store.mark_missing(stored.id)
-            report.missing += 1
+        if stored.id in seen or key in split_failed or file_of(key) in files_failed or not _under(key, roots):
+            continue
+        if not _under(key, unlisted) and not excluded(file_of(key)):
+            gone.append(stored.id)
+    for document_id in gone:
+        store.mark_missing(document_id)
+        report.missing += 1
     return document_ids
 
 
@@ -387,26 +394,28 @@ def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: d
 
 
 def _pending(
-    store: Store, document_ids: list[int], active: list, report: RunReport | None = None
-) -> dict[int, set[str]]:
+    store: Store, document_ids: Iterable[int], active: list, report: RunReport | None = None
+) -> dict[int, frozenset[str]]:
     """Method names still to run, per document (one query per method); counts the
-    summaries already stored as skipped in ``report``, when given."""
+    summaries already stored as skipped in ``report``, when given. Documents that
+    lack the same methods share one set of names."""
     done = {
         method.name: store.documents_with_summary(method.name, param_hash(method.name, method.get_params()))
         for method in active
     }
-    todo: dict[int, set[str]] = {}
+    shared: dict[frozenset[str], frozenset[str]] = {}
+    todo: dict[int, frozenset[str]] = {}
     for document_id in document_ids:
-        names = {
+        names = frozenset(
             method.name
             for method in active
             if document_id not in done[method.name]
             and not (isinstance(method, SkipsDocuments) and document_id in method.skipped_document_ids)
-        }
+        )
         if report is not None:
             report.summaries_skipped += len(active) - len(names)
         if names:
-            todo[document_id] = names
+            todo[document_id] = shared.setdefault(names, names)
     return todo
 
 
@@ -426,16 +435,17 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     progress.start(len(todo), "documents summarized")
 
     def finished(document_id: int, names: set[str]) -> None:
-        todo[document_id] -= names
+        todo[document_id] = todo[document_id] - names
         if not todo[document_id]:
             del todo[document_id]
             report.documents_summarized += 1
             progress.advance()
 
+    # Read from the store as workers take them: only the documents in flight are in memory.
     jobs = (
-        (document_id, store.documents.load(document_id), sorted(names & per_document_names))
-        for document_id, names in list(todo.items())
-        if names & per_document_names
+        (document_id, store.documents.load(document_id), sorted(todo[document_id] & per_document_names))
+        for document_id in document_ids
+        if todo.get(document_id, frozenset()) & per_document_names
     )
     load = WriterLoad()
     load.start()
