@@ -2,7 +2,7 @@
 
 Each one also runs alone: ``python -m bench.operations``, ``bench.splitting``, ``bench.seq2seq_speed``,
 ``bench.aclsum_eval``, ``bench.learned_aclsum``, ``bench.site_latency``, ``bench.aclsum_aspects``,
-``bench.hostile_inputs``, ``bench.writer``.
+``bench.hostile_inputs``, ``bench.writer``, ``bench.night``.
 """
 
 import importlib
@@ -10,6 +10,7 @@ import sys
 
 BENCHMARKS = (
     "operations", "splitting", "seq2seq_speed", "aclsum_eval", "learned_aclsum", "site_latency", "aclsum_aspects", "hostile_inputs", "writer",
+    "night",
 )
 
 for name in BENCHMARKS:

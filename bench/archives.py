@@ -5,8 +5,10 @@
 
 Each generated report is a plain-text file: a title line, then paragraphs of three
 to six sentences drawn (seeded) from the demo reports, so the text has the demo's
-vocabulary and sentence lengths. The same seed gives byte-identical files, which
-load tests and benchmarks rely on to compare runs.
+vocabulary and sentence lengths. With ``reference_every=k`` every k-th report gets a
+reference summary in a sidecar (the first sentence of each of its first three
+paragraphs), so ``score`` and ``compare`` have work to do. The same seed gives
+byte-identical files, which load tests and benchmarks rely on to compare runs.
 """
 
 from __future__ import annotations
@@ -38,14 +40,19 @@ def demo_sentences(archive: str | Path) -> list[str]:
     return list(seen)
 
 
-def report_text(rng: random.Random, sentences: list[str], number: int, sentence_count: int) -> str:
-    """One synthetic report of ``sentence_count`` sentences."""
+def report_paragraphs(rng: random.Random, sentences: list[str], sentence_count: int) -> list[list[str]]:
+    """The sentences of one synthetic report, in paragraphs of three to six."""
     paragraphs, left = [], sentence_count
     while left > 0:
         size = min(left, rng.randint(3, 6))
-        paragraphs.append(" ".join(rng.choice(sentences) for _ in range(size)))
+        paragraphs.append([rng.choice(sentences) for _ in range(size)])
         left -= size
-    return f"Field report {number:06d}\n\n" + "\n\n".join(paragraphs) + "\n"
+    return paragraphs
+
+
+def report_text(number: int, paragraphs: list[list[str]]) -> str:
+    """One synthetic report: its title line, then its paragraphs."""
+    return f"Field report {number:06d}\n\n" + "\n\n".join(" ".join(p) for p in paragraphs) + "\n"
 
 
 def build_archive(
@@ -54,9 +61,11 @@ def build_archive(
     sentences: list[str],
     seed: int = 0,
     sentences_per_report: tuple[int, int] = (8, 30),
+    reference_every: int = 0,
 ) -> list[Path]:
     """Write ``count`` reports under ``folder`` (a thousand per subfolder, so no
-    folder gets huge); returns their paths in archive order."""
+    folder gets huge), every ``reference_every``-th with a reference sidecar (0:
+    none); returns their paths in archive order."""
     rng = random.Random(seed)
     folder = Path(folder)
     paths = []
@@ -65,6 +74,10 @@ def build_archive(
         if number % FILES_PER_FOLDER == 0:
             subfolder.mkdir(parents=True, exist_ok=True)
         path = subfolder / f"report_{number:06d}.txt"
-        path.write_text(report_text(rng, sentences, number, rng.randint(*sentences_per_report)), encoding="utf-8")
+        paragraphs = report_paragraphs(rng, sentences, rng.randint(*sentences_per_report))
+        path.write_text(report_text(number, paragraphs), encoding="utf-8")
+        if reference_every and number % reference_every == 0:
+            reference = " ".join(paragraph[0] for paragraph in paragraphs[:3])
+            path.with_name(path.stem + ".summary.txt").write_text(reference + "\n", encoding="utf-8")
         paths.append(path)
     return paths
