@@ -11,6 +11,8 @@ import sqlite_utils
 from store.records import Document, Segmentation, Span
 from store.references import References
 
+LOADED_COLUMNS = "record_key, path, text, format, sha256, size, title, date, date_source, modified, encoding, metadata"
+
 
 @dataclass(frozen=True)
 class StoredVersion:
@@ -62,7 +64,13 @@ class DocumentReads:
 
     def load(self, document_id: int) -> tuple[Document, Segmentation]:
         """A stored document as the record the methods take, with its reference summary."""
-        row = self.db["documents"].get(document_id)
+        # Plain SQL: sqlite-utils' get() inspects the schema on every call, and a run
+        # loads every document it summarizes.
+        cursor = self.db.execute(f"select {LOADED_COLUMNS} from documents where id = ?", [document_id])
+        found = cursor.fetchone()
+        if found is None:
+            raise KeyError(f"no stored document with id {document_id}")
+        row = dict(zip((column[0] for column in cursor.description), found))
         reference = self.references.of(document_id)
         document = Document(
             record_key=row["record_key"],
@@ -73,8 +81,8 @@ class DocumentReads:
             size=row["size"],
             title=row["title"],
             date=row["date"],
-            date_source=row.get("date_source"),
-            modified=row.get("modified"),
+            date_source=row["date_source"],
+            modified=row["modified"],
             encoding=row["encoding"],
             reference_summary=reference.text if reference else None,
             reference_source=reference.source if reference else None,

@@ -48,8 +48,11 @@ class StoreWrites:
     # documents --------------------------------------------------------------------
 
     def find_document(self, record_key: str, sha256: str) -> dict | None:
-        rows = list(self.db["documents"].rows_where("record_key = ? and sha256 = ?", [record_key, sha256]))
-        return rows[0] if rows else None
+        """The stored version of this record with this content (id and status), if any."""
+        row = self.db.execute(
+            "select id, status from documents where record_key = ? and sha256 = ?", [record_key, sha256]
+        ).fetchone()
+        return {"id": row[0], "status": row[1]} if row else None
 
     def add_document(
         self, document: Document, segmentation: Segmentation | None, run_id: int
@@ -73,7 +76,8 @@ class StoreWrites:
                 if existing["status"] in ("missing", "replaced"):
                     self._retire_versions(document.record_key)
                     changes["status"] = "active"
-                self.db["documents"].update(existing["id"], changes)
+                assignments = ", ".join(f"{column} = ?" for column in changes)
+                self.db.execute(f"update documents set {assignments} where id = ?", [*changes.values(), existing["id"]])
                 return existing["id"], False, changes.get("status", existing["status"])
             if segmentation is None:
                 raise ValueError(f"{document.record_key}: a new document needs its segmentation")

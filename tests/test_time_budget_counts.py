@@ -50,10 +50,10 @@ def quiet() -> TerminalProgress:
     return TerminalProgress(stream=io.StringIO())
 
 
-def build_archive(folder: Path) -> Path:
+def build_archive(folder: Path, reports: int = 7) -> Path:
     """Single-document files in two folders, a byte-for-byte copy, a file that cannot
     be read, an excluded folder and a stray file type."""
-    archive = generated_archive(folder, 7, seed=11)
+    archive = generated_archive(folder, reports, seed=11)
     reports = sorted(archive.rglob("*.txt"))
     (archive / "copies").mkdir()
     (archive / "copies" / "again.txt").write_bytes(reports[0].read_bytes())
@@ -144,15 +144,20 @@ def test_reruns_with_growing_budgets_never_count_up(tmp_path, monkeypatch):
         night = run_archive(["archive"], str(db), methods=METHODS, exclude=["scratch"], progress=quiet(),
                             stop=budget_at(reads))
         if night.stop_reason is None:
+            # A night with less left to do than a whole run may finish within its budget.
+            finished_by = night
             break
         unread.append(night.files_unread)
         remaining.append(night.documents_remaining)
+    else:
+        finished_by = run_archive(["archive"], str(db), methods=METHODS, exclude=["scratch"], progress=quiet())
     assert len(remaining) >= 3
     assert remaining == sorted(remaining, reverse=True) and remaining[0] > remaining[-1]
     assert unread == sorted(unread, reverse=True) and unread[0] > 0
+    assert finished_by.documents_summarized == remaining[-1]
+    assert (finished_by.files_unread, finished_by.documents_remaining) == (0, 0)
     last = run_archive(["archive"], str(db), methods=METHODS, exclude=["scratch"], progress=quiet())
-    assert last.documents_summarized == remaining[-1]
-    assert (last.files_unread, last.documents_remaining) == (0, 0)
+    assert (last.documents_summarized, last.files_unread, last.documents_remaining) == (0, 0, 0)
 
 
 def test_a_file_of_many_records_not_read_yet_counts_as_at_least_one(tmp_path):
@@ -171,7 +176,8 @@ def test_a_file_of_many_records_not_read_yet_counts_as_at_least_one(tmp_path):
 
 @pytest.mark.parametrize("reads", [4, 7])
 def test_documents_in_flight_in_worker_processes_count_as_not_read(tmp_path, monkeypatch, reads):
-    build_archive(tmp_path / "archive")
+    # More files than two workers hold in flight (two batches each), so a stop leaves some unread.
+    build_archive(tmp_path / "archive", reports=60)
     monkeypatch.chdir(tmp_path)
     files = document_files(tmp_path / "archive")
     db = tmp_path / "workers.sqlite"
@@ -189,7 +195,7 @@ def test_documents_in_flight_in_worker_processes_count_as_not_read(tmp_path, mon
 
 @pytest.mark.parametrize("reads", [3, 5])
 def test_a_run_stopped_with_new_files_in_flight_marks_nothing_missing(tmp_path, reads):
-    archive = build_archive(tmp_path / "archive")
+    archive = build_archive(tmp_path / "archive", reports=60)
     db = tmp_path / "store.sqlite"
     assert run_archive([archive], str(db), methods=METHODS, exclude=["scratch"], progress=quiet()).stop_reason is None
     # New files first in walk order: the stopped run sends them out and never walks the rest.

@@ -1,18 +1,27 @@
 """Where per-document work runs: in this process, in local worker processes, or on an
 existing Dask distributed cluster. Only the calling process ever writes the store.
 
-Two kinds of work are sent out: splitting a new document into sentences (pass 1;
-results come back in archive order, so which of two identical files is stored first,
-and so is the 'active' one, never depends on timing) and summarizing a document with
-the fitted methods (pass 2; results come back as they finish).
+Two kinds of work are sent out, several documents to a task (``batch``), so that the
+cost of handing work over is paid once per batch:
 
-Every executor keeps a bounded number of documents in flight (about two per worker),
-so a stop request is honoured after those few finish, and memory does not grow with
-the archive. Work that never started when a stop came is cancelled.
+1. *Reading* (pass 1): each file of the walk is read (parsed, decoded, reflowed) and
+   its documents are split into sentences. Local worker processes read the files
+   themselves: the calling process only walks the archive and stores. Dask workers
+   may run on machines that do not see the archive, so there this process reads the
+   files and the workers split the documents. Results come back in archive order,
+   so which of two identical files is stored first, and so is the 'active' one,
+   never depends on timing.
+2. *Summarizing* (pass 2): each document with the fitted methods; results come back
+   as they finish.
+
+Every executor keeps a bounded number of documents in flight (about two batches per
+worker), so a stop request is honoured after those few finish, and memory does not
+grow with the archive. Work that never started when a stop came is cancelled.
 """
 
 from __future__ import annotations
 
+import gc
 import os
 import signal
 import threading
@@ -22,12 +31,16 @@ from collections import deque
 from collections.abc import Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass
+from pathlib import Path
 
 from store.errors import SummarizerError
 from store.records import Document, Segmentation
+from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, ingest_file
 from summarize.reading.limits import DocumentTookTooLong, time_limit
 from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import split_document
+from summarize.reading.walk import ArchiveWalk, display_path
 
 
 class ExecutorFailed(SummarizerError, RuntimeError):
@@ -37,10 +50,29 @@ class ExecutorFailed(SummarizerError, RuntimeError):
 
 Job = tuple[int, tuple[Document, Segmentation], list[str]]
 Outcome = tuple[int, Document, list[tuple[str, object]]]
+# A read item and what splitting it gave: a segmentation, the splitter's failure, or
+# None (a problem; or a document not split yet, which the caller splits if it is new).
+ReadItem = tuple[Document | IngestProblem, Segmentation | Exception | None]
 
 CONNECT_TIMEOUT = "10s"
 PARENT_CHECK_SECONDS = 1.0
+# Documents per task: enough to make handing work over cheap beside the work itself,
+# few enough that a stop waits for little.
+BATCH_DOCUMENTS = 8
 _worker_methods: dict = {}
+
+
+@dataclass(frozen=True)
+class FileReading:
+    """How a run reads and splits: sent with every reading task."""
+
+    fields: RecordFields = RecordFields()
+    limits: ReadLimits = ReadLimits()
+    walk: ArchiveWalk | None = None
+    splitter: SentenceSplitter | None = None
+
+    def split(self, document: Document) -> Segmentation | Exception:
+        return split_or_error(document, self.limits.document_seconds, self.splitter)
 
 
 def summarize_document(methods: dict, document: Document, segmentation: Segmentation, names: list[str]) -> list:
@@ -53,6 +85,10 @@ def summarize_document(methods: dict, document: Document, segmentation: Segmenta
         except Exception as error:
             outcomes.append((name, RuntimeError(f"{type(error).__name__}: {error}")))
     return outcomes
+
+
+def summarize_batch(methods: dict, jobs: list[Job]) -> list[list]:
+    return [summarize_document(methods, document, segmentation, names) for _, (document, segmentation), names in jobs]
 
 
 def split_or_error(
@@ -69,11 +105,24 @@ def split_or_error(
         return RuntimeError(f"could not split into sentences ({type(error).__name__}: {error})")
 
 
+def read_batch(entries: list[Path | list], reading: FileReading) -> list[list[ReadItem]]:
+    """Per entry, its read items, every document split: a path is read here, a list
+    holds the items of a file already read."""
+    results = []
+    for entry in entries:
+        items = ingest_file(entry, reading.fields, reading.limits, reading.walk) if isinstance(entry, Path) else entry
+        results.append([(item, reading.split(item) if isinstance(item, Document) else None) for item in items])
+    return results
+
+
 def _init_worker(methods: list, parent: int) -> None:
     global _worker_methods
+    # What the worker inherited from the run (forked) stays shared: the collector
+    # never visits it, so never writes to (and copies) its pages.
+    gc.freeze()
     _worker_methods = {method.name: method for method in methods}
     # The run decides when to stop (a Ctrl-C reaches the whole process group): a
-    # worker finishes its document and is then shut down with the pool.
+    # worker finishes its batch and is then shut down with the pool.
     for signum in (signal.SIGINT, signal.SIGTERM):
         signal.signal(signum, signal.SIG_IGN)
     threading.Thread(target=_exit_with_parent, args=(parent,), daemon=True).start()
@@ -87,12 +136,11 @@ def _exit_with_parent(parent: int) -> None:
     os._exit(1)
 
 
-def _summarize_in_worker(document: Document, segmentation: Segmentation, names: list[str]) -> list:
-    return summarize_document(_worker_methods, document, segmentation, names)
+def _summarize_in_worker(jobs: list[Job]) -> list[list]:
+    return summarize_batch(_worker_methods, jobs)
 
 
 class InProcessExecutor:
-    document_seconds = 0.0
     results_waiting = 0  # each result is written as soon as it is computed
 
     def __init__(self, methods: list):
@@ -104,13 +152,18 @@ class InProcessExecutor:
     def __exit__(self, *exc) -> None:
         pass
 
-    def split_documents(
-        self, documents: Iterable[Document], stop, splitter: SentenceSplitter | None = None
-    ) -> Iterator[tuple[Document, object]]:
-        for document in documents:
+    def read_archive(
+        self, entries: Iterable[Path | IngestProblem], stop, reading: FileReading
+    ) -> Iterator[tuple[Path | IngestProblem, list[ReadItem]]]:
+        """Each entry of the walk with its read items, in archive order; documents are
+        left unsplit (the caller splits only the new ones)."""
+        for entry in entries:
             if stop.reason():
                 return
-            yield document, split_or_error(document, self.document_seconds, splitter)
+            if isinstance(entry, IngestProblem):
+                yield entry, [(entry, None)]
+            else:
+                yield entry, [(item, None) for item in ingest_file(entry, reading.fields, reading.limits, reading.walk)]
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         for document_id, (document, segmentation), names in jobs:
@@ -120,20 +173,23 @@ class InProcessExecutor:
 
 
 class _WindowedExecutor(ABC):
-    """Shared submit/collect loops: at most ``window`` documents in flight."""
+    """Shared submit/collect loops: at most ``window`` tasks of up to ``batch``
+    documents in flight."""
 
     window = 4
-    document_seconds = 0.0
-    # Results already finished but not yet handed over, counted at each hand-over.
+    batch = BATCH_DOCUMENTS
+    # Documents whose results are finished but not yet handed over, counted at each hand-over.
     results_waiting = 0
+    # Whether the workers read the archive's files themselves (they see the same disk).
+    reads_files = True
 
     @abstractmethod
-    def _submit_split(self, document: Document, splitter: SentenceSplitter | None):
-        """Start splitting one document; return a future."""
+    def _submit_reading(self, entries: list[Path | Document], reading: FileReading):
+        """Start reading and splitting a batch; return a future of :func:`read_batch`'s result."""
 
     @abstractmethod
-    def _submit(self, document: Document, segmentation: Segmentation, names: list[str]):
-        """Start summarizing one document; return a future."""
+    def _submit(self, jobs: list[Job]):
+        """Start summarizing a batch of documents; return a future of one outcome list per job."""
 
     @abstractmethod
     def _wait_any(self, futures: set) -> set:
@@ -154,27 +210,55 @@ class _WindowedExecutor(ABC):
         except Exception as error:
             return failure(RuntimeError(f"worker failed: {type(error).__name__}: {error}"))
 
-    def split_documents(
-        self, documents: Iterable[Document], stop, splitter: SentenceSplitter | None = None
-    ) -> Iterator[tuple[Document, object]]:
-        in_flight: deque = deque()
-        documents = iter(documents)
+    def read_archive(
+        self, entries: Iterable[Path | IngestProblem], stop, reading: FileReading
+    ) -> Iterator[tuple[Path | IngestProblem, list[ReadItem]]]:
+        """Each entry of the walk with its read items, in archive order, every
+        document split. Entries sent out when a stop came and never started are
+        dropped (the caller counts them as not read)."""
+        # Each slot holds, in order, either a problem of the walk or a task of entries.
+        slots: deque = deque()
+        entries = iter(entries)
         exhausted = False
         while True:
-            while not exhausted and len(in_flight) < self.window and not stop.reason():
-                document = next(documents, None)
-                if document is None:
-                    exhausted = True
-                    break
-                in_flight.append((document, self._submit_split(document, splitter)))
+            while not exhausted and sum(kind == "task" for kind, _, _ in slots) < self.window and not stop.reason():
+                batch: list = []
+                while len(batch) < self.batch:
+                    entry = next(entries, None)
+                    if entry is None:
+                        exhausted = True
+                        break
+                    if isinstance(entry, IngestProblem):
+                        if batch:
+                            slots.append(("task", self._submit_reading(self._sent(batch, reading), reading), batch))
+                            batch = []
+                        slots.append(("ready", None, entry))
+                        continue
+                    batch.append(entry)
+                if batch:
+                    slots.append(("task", self._submit_reading(self._sent(batch, reading), reading), batch))
             if stop.reason():
-                still = set(self._cancel_unstarted([future for _, future in in_flight]))
-                in_flight = deque((document, future) for document, future in in_flight if future in still)
-            if not in_flight:
+                tasks = [future for kind, future, _ in slots if kind == "task"]
+                still = set(self._cancel_unstarted(tasks))
+                slots = deque(slot for slot in slots if slot[0] == "ready" or slot[1] in still)
+            if not slots:
                 return
-            document, future = in_flight.popleft()
-            self.results_waiting = sum(other.done() for _, other in in_flight)
-            yield document, self._result(future, lambda error: error)
+            kind, future, batch = slots.popleft()
+            if kind == "ready":
+                yield batch, [(batch, None)]
+                continue
+            self.results_waiting = sum(
+                len(waiting) for kind_, other, waiting in slots if kind_ == "task" and other.done()
+            )
+            results = self._result(future, lambda error, batch=batch: [[_failed_reading(entry, error)] for entry in batch])
+            yield from zip(batch, results)
+
+    def _sent(self, batch: list[Path], reading: FileReading) -> list:
+        """What goes out for a batch of files: the paths, or (for workers that do not
+        see the archive) each file's items as this process read them."""
+        if self.reads_files:
+            return batch
+        return [ingest_file(path, reading.fields, reading.limits, reading.walk) for path in batch]
 
     def map_documents(self, jobs: Iterable[Job], stop) -> Iterator[Outcome]:
         in_flight: dict = {}
@@ -182,20 +266,32 @@ class _WindowedExecutor(ABC):
         exhausted = False
         while True:
             while not exhausted and len(in_flight) < self.window and not stop.reason():
-                job = next(jobs, None)
-                if job is None:
-                    exhausted = True
-                    break
-                document_id, (document, segmentation), names = job
-                in_flight[self._submit(document, segmentation, names)] = (document_id, document, names)
+                batch = []
+                while len(batch) < self.batch:
+                    job = next(jobs, None)
+                    if job is None:
+                        exhausted = True
+                        break
+                    batch.append(job)
+                if batch:
+                    in_flight[self._submit(batch)] = batch
             if stop.reason():
                 in_flight = {future: in_flight[future] for future in self._cancel_unstarted(list(in_flight))}
             if not in_flight:
                 return
             for future in self._wait_any(set(in_flight)):
-                document_id, document, names = in_flight.pop(future)
-                self.results_waiting = sum(other.done() for other in in_flight)
-                yield document_id, document, self._result(future, lambda error, names=names: [(name, error) for name in names])
+                batch = in_flight.pop(future)
+                self.results_waiting = sum(len(other) for f, other in in_flight.items() if f.done())
+                outcomes = self._result(
+                    future, lambda error, batch=batch: [[(name, error) for name in names] for _, _, names in batch]
+                )
+                for (document_id, (document, _), _), outcome in zip(batch, outcomes):
+                    yield document_id, document, outcome
+
+
+def _failed_reading(path: Path, error: Exception) -> ReadItem:
+    """What a batch lost to a failed worker or transport gives for one of its files."""
+    return IngestProblem(display_path(path), str(error), "error"), None
 
 
 class ProcessExecutor(_WindowedExecutor):
@@ -215,11 +311,11 @@ class ProcessExecutor(_WindowedExecutor):
     def __exit__(self, *exc) -> None:
         self.pool.shutdown(wait=True, cancel_futures=True)
 
-    def _submit_split(self, document, splitter):
-        return self.pool.submit(split_or_error, document, self.document_seconds, splitter)
+    def _submit_reading(self, entries, reading):
+        return self.pool.submit(read_batch, entries, reading)
 
-    def _submit(self, document, segmentation, names):
-        return self.pool.submit(_summarize_in_worker, document, segmentation, names)
+    def _submit(self, jobs):
+        return self.pool.submit(_summarize_in_worker, jobs)
 
     def _wait_any(self, futures):
         return wait(futures, return_when=FIRST_COMPLETED).done
@@ -244,8 +340,11 @@ class DaskExecutor(_WindowedExecutor):
     """An existing Dask distributed cluster at ``address`` (``tcp://host:8786``).
 
     The fitted methods are scattered to every worker once; documents are submitted
-    a window at a time; results come back to this process, which alone writes.
+    a window of batches at a time; results come back to this process, which alone
+    writes. The workers need not see the archive: this process reads the files.
     """
+
+    reads_files = False
 
     def __init__(self, methods: list, address: str):
         self.methods = methods
@@ -258,7 +357,7 @@ class DaskExecutor(_WindowedExecutor):
         except TimeoutError:
             self.client.close()
             raise ExecutorFailed(f"the Dask scheduler at {self.address} has no workers") from None
-        # Two documents per worker thread: every thread stays busy, little waits at a stop.
+        # Two batches per worker thread: every thread stays busy, little waits at a stop.
         self.window = max(2, 2 * sum(self.client.nthreads().values()))
         if self.methods:
             by_name = {method.name: method for method in self.methods}
@@ -270,14 +369,14 @@ class DaskExecutor(_WindowedExecutor):
 
     def _cancel_unstarted(self, futures: list) -> list:
         # Dask does not say which tasks have started; the window holds only about two
-        # documents per worker thread, so they are all finished and kept.
+        # batches per worker thread, so they are all finished and kept.
         return futures
 
-    def _submit_split(self, document, splitter):
-        return self.client.submit(split_or_error, document, self.document_seconds, splitter, pure=False)
+    def _submit_reading(self, entries, reading):
+        return self.client.submit(read_batch, entries, reading, pure=False)
 
-    def _submit(self, document, segmentation, names):
-        return self.client.submit(summarize_document, self.methods_future, document, segmentation, names, pure=False)
+    def _submit(self, jobs):
+        return self.client.submit(summarize_batch, self.methods_future, jobs, pure=False)
 
     def _wait_any(self, futures):
         from distributed import wait as dask_wait
@@ -285,15 +384,11 @@ class DaskExecutor(_WindowedExecutor):
         return dask_wait(list(futures), return_when="FIRST_COMPLETED").done
 
 
-def make_executor(methods: list, workers: int = 1, scheduler: str | None = None, document_seconds: float = 0.0):
+def make_executor(methods: list, workers: int = 1, scheduler: str | None = None):
     """Pick the executor for a run's ``--workers`` / ``--scheduler`` settings
-    (``methods`` may be empty when only splitting is sent out). Splitting one
-    document is limited to ``document_seconds`` (0: no limit)."""
+    (``methods`` may be empty when only reading is sent out)."""
     if scheduler:
-        executor = DaskExecutor(methods, scheduler)
-    elif workers > 1:
-        executor = ProcessExecutor(methods, workers)
-    else:
-        executor = InProcessExecutor(methods)
-    executor.document_seconds = document_seconds
-    return executor
+        return DaskExecutor(methods, scheduler)
+    if workers > 1:
+        return ProcessExecutor(methods, workers)
+    return InProcessExecutor(methods)

@@ -57,6 +57,7 @@ class ReadingTracker:
 
     def __init__(self):
         self._walk_ended = False
+        self._out = 0
         self._items_left: dict[str, int] = {}
         self._finished = array("q")
         self._finished_set: set[int] | None = None
@@ -78,13 +79,22 @@ class ReadingTracker:
         self._finished.append(hash(file))
         self._finished_set = None
 
+    def handed_out(self) -> None:
+        """A file of the walk went out to be read; until it is ``returned``, nothing
+        is known of its items."""
+        self._out += 1
+
+    def returned(self) -> None:
+        self._out -= 1
+
     def walk_ended(self) -> None:
         self._walk_ended = True
 
     @property
     def everything_read(self) -> bool:
-        """The walk reached its end and every item of every file is done."""
-        return self._walk_ended and not self._items_left
+        """The walk reached its end, every file sent out came back, and every item of
+        every file is done."""
+        return self._walk_ended and not self._out and not self._items_left
 
     def read(self, file: str) -> bool:
         if self._finished_set is None:

@@ -41,10 +41,10 @@ from summarize.methods.budget import Budget
 from summarize.methods.contract import BatchCapable, NeedsLoading, ResolvedAtRunTime, SkipsDocuments
 from summarize.methods.registry import DEFAULT_BUDGET, RUNNABLE, MethodSettings, build_method, check_names
 from summarize.reading.exclusions import ArchiveExclusions
-from summarize.reading.ingest import IngestProblem, ReadLimits, RecordFields, archive_files, iter_archive
+from summarize.reading.ingest import ArchiveFiles, IngestProblem, ReadLimits, RecordFields, archive_files
 from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import DEFAULT_SPLITTER
-from summarize.runs.executors import check_scheduler, make_executor
+from summarize.runs.executors import FileReading, check_scheduler, make_executor
 from summarize.runs.known_failures import FailureSorter
 from summarize.runs.progress import ProgressCallback, ProgressTracker
 from summarize.runs.remaining import IdSet, ReadingTracker, documents_remaining, file_of
@@ -139,8 +139,9 @@ def _read_archive(
     """Pass 1. Returns the ids of the current, non-duplicate documents seen; a stopped
     pass sets ``report.unread`` to the files it did not read to the end.
 
-    This process reads the files and writes the store; splitting new documents into
-    sentences (the costly part) goes to the executor, and comes back in archive order.
+    This process walks the archive and writes the store; reading the files and
+    splitting their documents into sentences go to the executor (Dask workers get
+    documents this process read), and come back in archive order.
     """
     # Held per document: 8 bytes in document_ids, one bit in seen. Everything else
     # is per file in flight, or per failure (few), so memory does not grow with the archive.
@@ -161,70 +162,79 @@ def _read_archive(
         else:
             document_ids.append(document_id)
 
-    def new_documents() -> Iterator[Document]:
-        """Walk the archive; record problems and known documents at once; yield the
-        documents to split and store."""
-        # A file's items come together (its documents and problems), so a file whose
-        # every item is stored or recorded is known to be read to its end.
-        for file, items in groupby(iter_archive(paths, fields, **reading), key=lambda item: file_of(item.path)):
-            items = list(items)
-            tracker.starting(file, len(items))
-            if any(not isinstance(item, IngestProblem) for item in items):
-                progress.advance()
-            for item in items:
-                if stop.reason():
-                    return
-                if isinstance(item, IngestProblem):
-                    if item.unlisted:
-                        unlisted.append(item.path)
-                    if item.kind == "error":
-                        files_failed.add(file_of(item.path))
-                        failures.file_failed(item.path, item.reason)
-                    elif item.kind == "warning":
-                        # The document itself is read; the warning is told, the exit status unchanged.
-                        store.runs.record_problem(run_id, item.path, item.kind, item.reason)
-                        report.warnings.append(str(item))
-                        progress.message(f"warning: {item}", logging.WARNING)
-                    else:
-                        store.runs.record_problem(run_id, item.path, item.kind, item.reason)
-                        report.skipped_files.append(str(item))
-                    tracker.done(item.path)
-                    continue
-                if store.find_document(item.record_key, item.sha256) is not None:
-                    document_id, added, status = store.add_document(item, None, run_id)
-                    counted(document_id, added, status)
-                    if status != "duplicate":
-                        change = store.refresh_reference(document_id, item, run_id)
-                        if change:
-                            report.references_changed.append(f"{item.record_key}: reference summary {change}")
-                            progress.message(
-                                f"{item.record_key}: reference summary {change}; earlier scores kept as history"
-                            )
-                    tracker.done(item.path)
-                    groups.document_written()
-                else:
-                    yield item
+    def problem(item: IngestProblem) -> None:
+        if item.unlisted:
+            unlisted.append(item.path)
+        if item.kind == "error":
+            files_failed.add(file_of(item.path))
+            failures.file_failed(item.path, item.reason)
+        elif item.kind == "warning":
+            # The document itself is read; the warning is told, the exit status unchanged.
+            store.runs.record_problem(run_id, item.path, item.kind, item.reason)
+            report.warnings.append(str(item))
+            progress.message(f"warning: {item}", logging.WARNING)
+        else:
+            store.runs.record_problem(run_id, item.path, item.kind, item.reason)
+            report.skipped_files.append(str(item))
+
+    def known(document: Document) -> None:
+        document_id, added, status = store.add_document(document, None, run_id)
+        counted(document_id, added, status)
+        if status != "duplicate":
+            change = store.refresh_reference(document_id, document, run_id)
+            if change:
+                report.references_changed.append(f"{document.record_key}: reference summary {change}")
+                progress.message(f"{document.record_key}: reference summary {change}; earlier scores kept as history")
+
+    files = ArchiveFiles(paths, reading.get("follow_links_outside", False), reading.get("exclude", ()))
+    file_reading = FileReading(fields, reading["limits"], files.walk, splitter)
+
+    def entries() -> Iterator:
+        for entry in files:
+            if not isinstance(entry, IngestProblem):
+                tracker.handed_out()
+            yield entry
         tracker.walk_ended()
 
+    def store_item(item: Document | IngestProblem, segmentation) -> None:
+        if isinstance(item, IngestProblem):
+            problem(item)
+        elif segmentation is None:
+            known(item)
+        elif isinstance(segmentation, Exception):
+            split_failed.add(item.record_key)
+            failures.document_failed(item.record_key, item.sha256, str(segmentation))
+        else:
+            counted(*store.add_document(item, segmentation, run_id))
+        tracker.done(item.path)
+        groups.document_written()
+
     progress.start(None, "files read")
-    document_seconds = reading["limits"].document_seconds
     load = WriterLoad()
     load.start()
-    with (
-        make_executor([], workers=workers, scheduler=scheduler, document_seconds=document_seconds) as executor,
-        store.write_groups(**grouping) as groups,
-    ):
-        for document, segmentation in executor.split_documents(new_documents(), stop, splitter):
-            with load.writing(executor.results_waiting):
-                if isinstance(segmentation, Exception):
-                    split_failed.add(document.record_key)
-                    failures.document_failed(document.record_key, document.sha256, str(segmentation))
-                else:
-                    counted(*store.add_document(document, segmentation, run_id))
-                tracker.done(document.path)
-                groups.document_written()
-            if load.due():
-                progress.message(load.line("reading"))
+    with make_executor([], workers=workers, scheduler=scheduler) as executor, store.write_groups(**grouping) as groups:
+        for entry, read in executor.read_archive(entries(), stop, file_reading):
+            if not isinstance(entry, IngestProblem):
+                tracker.returned()
+            # A file's items come together (its documents and problems), so a file whose
+            # every item is stored or recorded is known to be read to its end.
+            for file, items in groupby(read, key=lambda pair: file_of(pair[0].path)):
+                items = list(items)
+                tracker.starting(file, len(items))
+                if any(isinstance(item, Document) for item, _ in items):
+                    progress.advance()
+                for item, segmentation in items:
+                    if isinstance(item, Document):
+                        if store.find_document(item.record_key, item.sha256) is not None:
+                            segmentation = None  # stored before: nothing to split or store again
+                        elif segmentation is None:
+                            if stop.reason():
+                                break  # read here and not split yet: the file stays unread
+                            segmentation = file_reading.split(item)
+                    with load.writing(executor.results_waiting):
+                        store_item(item, segmentation)
+                    if load.due():
+                        progress.message(load.line("reading"))
     load.stop()
     report.writer["reading"] = {**load.counts(), "groups": groups.groups_committed}
     progress.close()
