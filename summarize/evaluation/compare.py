@@ -161,7 +161,10 @@ def compare(
         present = "; ".join(sorted(scored_labels)) or "none (run `summarize score` first)"
         raise NothingScored(f"{db_path}: no scored summaries at budget '{budget}' ({wanted}); scored budgets: {present}")
 
-    sources: dict[int, IndexedSource] = {}
+    extractive = _extractiveness(
+        [member for systems in grouped.values() for members in systems.values() for member in members],
+        sentences, documents,
+    )
     groups = []
     for label, systems in grouped.items():
         names = {key: setting_label(key[0], members[0].params, with_budget=False) for key, members in systems.items()}
@@ -170,7 +173,7 @@ def compare(
             name = names[(method, settings)]
             if list(names.values()).count(name) > 1:  # settings the label cannot tell apart
                 name = f"{name}#{settings}"
-            results.append(_system_result(name, method, members, sentences, documents, sources, measure, bootstrap))
+            results.append(_system_result(name, method, members, extractive, measure, bootstrap))
         baseline = next((r for r in sorted(results, key=_system_order) if r.method == BASELINE), None)
         if baseline is not None:
             for result in results:
@@ -182,7 +185,22 @@ def compare(
     return Comparison(measure, confidence, resamples, seed, groups, reference_words)
 
 
-def _system_result(name, method, members, sentences, documents, sources, measure, bootstrap) -> SystemResult:
+def _extractiveness(summaries: list[ScoredSummary], sentences: dict, documents: dict) -> dict[int, object]:
+    """Coverage and density of each summary, by summary id. Each document's token
+    index is built once for all its summaries and then dropped: kept for every
+    document of a large archive, the indexes took gigabytes."""
+    by_document: dict[int, list[int]] = defaultdict(list)
+    for summary in summaries:
+        by_document[summary.document_id].append(summary.summary_id)
+    found = {}
+    for document_id, summary_ids in by_document.items():
+        source = IndexedSource(documents[document_id].text)
+        for summary_id in summary_ids:
+            found[summary_id] = extractiveness(source, sentences.get(summary_id, []))
+    return found
+
+
+def _system_result(name, method, members, extractive, measure, bootstrap) -> SystemResult:
     per_document = {}
     fragments = defaultdict(list)
     for summary in members:
@@ -192,10 +210,7 @@ def _system_result(name, method, members, sentences, documents, sources, measure
             "words": count_words(summary.text or ""),
             **values,
         }
-        document_id = summary.document_id
-        if document_id not in sources:
-            sources[document_id] = IndexedSource(documents[document_id].text)
-        found = extractiveness(sources[document_id], sentences.get(summary.summary_id, []))
+        found = extractive[summary.summary_id]
         for field_name in EXTRACTIVENESS_FIELDS:
             fragments[field_name].append(getattr(found, field_name))
     metrics = [m for m in METRICS if all(m in row for row in per_document.values())]
