@@ -9,8 +9,8 @@ measured with precomputed results: the archive is read, split and summarized (le
 TF-IDF, TextRank) before the clock starts; the timed part is only the writes a run
 makes (document, sentences, three summaries with their sentences and source spans),
 through the same ``Store`` calls, into an empty store. It is timed with documents
-committed one per transaction and in groups of several sizes, beside a whole run with
-one worker process (read, split, summarize, store) on the same archive.
+committed one per transaction and in groups of several sizes, beside whole runs with
+one and with two worker processes (read, split, summarize, store) on the same archive.
 """
 
 from __future__ import annotations
@@ -79,13 +79,16 @@ def main(argv: list[str] | None = None) -> None:
         rows = []
         worker_seconds, summarized = timed_run(archive, Path(folder) / "run.sqlite", workers=1, tries=TRIES)
         worker_rate = summarized / worker_seconds
+        two_seconds, _ = timed_run(archive, Path(folder) / "run2.sqlite", workers=2, tries=TRIES)
         for size in GROUP_SIZES:
             seconds = write_seconds(results, Path(folder) / f"writer_{size}.sqlite", size)
             rate = len(results) / seconds
             label = "one per transaction" if size == 1 else f"groups of {size}"
             rows.append([f"writer alone, {label}", f"{seconds:.2f}", f"{rate:.0f}", f"{rate / worker_rate:.1f}"])
-        rows.append(["one worker, whole run", f"{worker_seconds:.2f}", f"{worker_rate:.0f}", "1.0"])
-    print(f"#### Writer ceiling and one worker, {len(results):,} documents, "
+        rows.append(["one worker process, whole run", f"{worker_seconds:.2f}", f"{worker_rate:.0f}", "1.0"])
+        rows.append(["two worker processes, whole run", f"{two_seconds:.2f}", f"{summarized / two_seconds:.0f}",
+                     f"{worker_seconds / two_seconds:.2f}"])
+    print(f"#### Writer ceiling, one and two workers, {len(results):,} documents, "
           f"lead + TF-IDF + TextRank (best of {TRIES}; {load()})\n")
     print(table(["what", "seconds", "documents / s", "× one worker"], rows))
 

@@ -24,7 +24,7 @@ METRICS = ("rouge1", "rouge2", "rougeL")
 GENERIC_METHODS = ("lead", "tfidf", "textrank")
 # Settings the learned variant is tuned over (on validation documents only).
 TUNING_GRID = {
-    "c": (0.05, 1.0),
+    "c": (0.002, 0.05),
     "bias": (0.5, 0.85, 1.0),
     "min_probability": (0.2, 0.5),
     "relevance": ("probability", "probability-evidence"),
@@ -115,13 +115,14 @@ def tune_learned(
     archive_texts: Sequence[str],
     grid: dict[str, tuple] = TUNING_GRID,
     seed: int = 0,
+    cue_words: int = LearnedAspectSummarizer.cue_words,
 ) -> TunedLearned:
     """Train the learned variant on ``train`` and choose, for each aspect on its own,
     the setting of ``grid`` (keys among ``c``, ``bias``, ``min_probability``,
     ``relevance``) with the best mean ROUGE-1 F1 on ``validation``. The test split
     plays no part."""
     metric = RougeMetric(metrics=("rouge1",))
-    base = LearnedAspectSummarizer(aspects=aspects, seed=seed).fit_features(archive_texts)
+    base = LearnedAspectSummarizer(aspects=aspects, seed=seed, cue_words=cue_words).fit_features(archive_texts)
     rows = base.labelled_rows(list(train))
     references = [aspect_references(document, aspects) for document, _ in validation]
     choice: dict[str, tuple[float, dict]] = {}

@@ -21,7 +21,7 @@ scikit-learn's own ``fit``.
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 
 import numpy as np
 from sklearn.feature_extraction.text import TfidfVectorizer
@@ -56,6 +56,15 @@ def fit_archive_idf(vectorizer: TfidfVectorizer, texts: Iterable[str]) -> TfidfV
     vectorizer.vocabulary_ = {term: index for index, term in enumerate(terms)}
     vectorizer.idf_ = np.log((documents + smooth) / (document_frequency + smooth)) + 1.0
     return vectorizer
+
+
+def frequent_terms(analyze: Callable[[str], list[str]], texts: Iterable[str], count: int) -> list[str]:
+    """The ``count`` terms ``analyze`` finds in the most of ``texts`` (one pass, memory
+    of the vocabulary), most frequent first, ties in alphabetical order."""
+    frequencies: Counter[str] = Counter()
+    for text in texts:
+        frequencies.update(set(analyze(text)))
+    return [term for term, _ in sorted(frequencies.items(), key=lambda item: (-item[1], item[0]))[:count]]
 
 
 def _no_terms(vectorizer: TfidfVectorizer) -> TfidfVectorizer:

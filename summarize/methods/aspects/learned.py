@@ -4,12 +4,14 @@ archive's aspect-labelled references."""
 from __future__ import annotations
 
 import copy
-from collections.abc import Iterable
+import re
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
 from scipy.stats import rankdata
 from sklearn.ensemble import HistGradientBoostingClassifier
+from sklearn.feature_extraction.text import CountVectorizer
 from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import make_pipeline
 from sklearn.preprocessing import StandardScaler
@@ -19,6 +21,7 @@ from store.aspect_records import AspectSummary
 from store.records import Document, Segmentation
 from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.oracle import OracleSummarizer
+from summarize.methods.archive_idf import frequent_terms
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import QueryBiasedLexRank
 from summarize.methods.aspects.references import aspect_references
@@ -35,9 +38,10 @@ from summarize.methods.learned.house_style import TRUSTED_TYPES as HOUSE_STYLE_T
 from summarize.methods.learned.sentence_features import FEATURE_NAMES, SentenceFeatures
 
 OPENING_SENTENCES = 3
+# The last name stands for the model's own cue words, one indicator column each.
 ASPECT_FEATURE_NAMES = (*FEATURE_NAMES, "aspect_evidence", "aspect_evidence_rank", "aspect_phrase_hits",
                         "aspect_lexrank", "aspect_lexrank_rank",
-                        *(f"opening_{k + 1}" for k in range(OPENING_SENTENCES)), "opening_inverse")
+                        *(f"opening_{k + 1}" for k in range(OPENING_SENTENCES)), "opening_inverse", "cue_words")
 MODELS = ("logistic", "gradient-boosting")
 Example = tuple[Document, Segmentation]
 TUNABLE = ("c", "bias", "min_probability", "relevance")
@@ -50,6 +54,7 @@ TRUSTED_TYPES = (
     *HOUSE_STYLE_TRUSTED_TYPES,
     "summarize.methods.aspects.definitions.Aspect",
     "summarize.methods.aspects.learned.LearnedAspectSummarizer",
+    "summarize.methods.aspects.learned.cue_analyzer",
     "summarize.methods.aspects.lexrank.stemmed_words",
     "summarize.methods.aspects.relevance.QueryRelevance",
     "summarize.methods.aspects.selection.AspectSummarizer",
@@ -68,6 +73,20 @@ class SentenceEvidence:
 
 def _rank_share(values: np.ndarray) -> np.ndarray:
     return rankdata(values, method="average") / len(values) if len(values) else values
+
+
+def cue_analyzer(text: str) -> list[str]:
+    """Lower-case words and word pairs, stop words kept: "however", "we propose" and
+    "results show" are the cues (module level, so a fitted model can be stored)."""
+    words = re.findall(r"[a-z]+(?:'[a-z]+)?", text.lower())
+    return words + [f"{first} {second}" for first, second in zip(words, words[1:])]
+
+
+def fit_cue_words(archive_texts: Iterable[str], count: int) -> CountVectorizer:
+    """Indicators of the ``count`` words and word pairs found in the most documents
+    of the archive (no labels involved, like the IDF)."""
+    vocabulary = frequent_terms(cue_analyzer, archive_texts, count) or ["\x00"]
+    return CountVectorizer(analyzer=cue_analyzer, vocabulary=vocabulary, binary=True, dtype=np.float64)
 
 
 def opening_columns(segmentation: Segmentation) -> np.ndarray:
@@ -89,7 +108,11 @@ class LearnedAspectSummarizer:
 
     Features: the house-style sentence features (position, section cues, centrality,
     surface cues; :class:`~summarize.methods.learned.sentence_features.SentenceFeatures`),
-    indicators of the opening sentences (:func:`opening_columns`), plus, per aspect,
+    indicators of the opening sentences (:func:`opening_columns`), indicators of the
+    archive's ``cue_words`` most widespread words and word pairs, stop words kept
+    (:func:`fit_cue_words`; cue phrases as features of a trainable summarizer follow
+    Kupiec, Pedersen & Chen 1995, and "however", "we propose", "results show" as signs of
+    a sentence's rhetorical role Teufel & Moens 2002, both cited from memory), plus, per aspect,
     ``evidence(s)``, the guide-phrase count and the query-biased LexRank score
     (Otterbacher, Erkan & Radev 2005), raw and as within-document rank shares. Labels: ``y = 1`` for the sentences the greedy extractive oracle
     (:class:`~summarize.evaluation.oracle.OracleSummarizer`) picks against that
@@ -117,11 +140,12 @@ class LearnedAspectSummarizer:
     budget: Budget = ASPECT_BUDGET
     min_words: int = 4
     model: str = "logistic"
-    c: float = 1.0
+    c: float = 0.002
     min_probability: float = 0.5
     bias: float = 0.85
     relevance: str = "probability-evidence"
     mmr_lambda: float = 0.7
+    cue_words: int = 50
     per_aspect: dict = field(default_factory=dict)
     seed: int = 0
     name: str = field(default="aspect-learned", init=False)
@@ -136,6 +160,7 @@ class LearnedAspectSummarizer:
             "bias": self.bias,
             "relevance": self.relevance,
             "mmr_lambda": self.mmr_lambda,
+            "cue_words": self.cue_words,
             "per_aspect": self.per_aspect,
             "seed": self.seed,
             "aspects": [aspect.as_dict() for aspect in self.aspects],
@@ -147,11 +172,14 @@ class LearnedAspectSummarizer:
     # training -----------------------------------------------------------------------
 
     def fit_features(self, archive_texts: Iterable[str]) -> LearnedAspectSummarizer:
-        """The archive-wide IDF behind every feature (no references needed)."""
-        texts = list(archive_texts)
+        """The archive-wide IDF and cue words behind the features (no references
+        needed). ``archive_texts`` is read three times: an iterator is first listed,
+        a re-iterable (such as the store's) is streamed each time."""
+        texts = list(archive_texts) if isinstance(archive_texts, Iterator) else archive_texts
         self.features_ = SentenceFeatures().fit(texts)
         self.unlearned_ = AspectSummarizer(budget=self.budget, min_words=self.min_words,
                                            mmr_lambda=self.mmr_lambda).fit(texts)
+        self.cues_ = fit_cue_words(texts, self.cue_words) if self.cue_words else None
         return self
 
     def fit(self, examples: Iterable[Example], archive_texts: Iterable[str] | None = None) -> LearnedAspectSummarizer:
@@ -223,6 +251,8 @@ class LearnedAspectSummarizer:
         lexrank = lexrank * max(len(texts), 1)
         columns = np.column_stack([evidence, _rank_share(evidence), hits, lexrank, _rank_share(lexrank),
                                    opening_columns(segmentation)])
+        if getattr(self, "cues_", None) is not None:
+            columns = np.hstack([columns, self.cues_.transform(texts).toarray()])
         return columns, evidence, vectors
 
     def untrained_copy(self) -> LearnedAspectSummarizer:
