@@ -249,6 +249,9 @@ def test_review_command_prints_its_address_and_serves_until_stopped(site):
     process = subprocess.Popen(
         [sys.executable, "-m", "summarize", "review", "--db", str(path), "--port", "0"],
         stderr=subprocess.PIPE, text=True, cwd=root, env={**os.environ, "PYTHONPATH": str(root)},
+        # As from a terminal: a test run started in the background by a shell without
+        # job control inherits SIGINT ignored, and so would the site.
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
     )
     try:
         line = process.stderr.readline()
