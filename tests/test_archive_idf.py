@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 from sklearn.feature_extraction.text import TfidfVectorizer
 
-from summarize.methods.archive_idf import NO_TERM, fit_archive_idf
+from summarize.methods.archive_idf import NO_TERM, fit_archive_idf, frequent_terms
+from summarize.methods.aspects.learned import cue_analyzer, fit_cue_words
 from summarize.methods.aspects.relevance import stemmed_words
 from summarize.reading.datasets import load_aclsum
 
@@ -61,3 +62,24 @@ def test_an_archive_without_content_words_still_transforms(settings):
 def test_a_single_string_is_refused():
     with pytest.raises(ValueError, match="one text per document"):
         fit_archive_idf(TfidfVectorizer(), "a single string")
+
+
+# Common practice (no outside source): counting in how many documents each term
+# occurs, worked by hand on three short texts.
+def test_frequent_terms_counts_documents_not_occurrences():
+    texts = ["pump pump pump failed", "the pump was isolated", "valve failed"]
+    assert frequent_terms(str.split, texts, 2) == ["failed", "pump"]
+    assert frequent_terms(str.split, texts, 10)[:2] == ["failed", "pump"]
+    assert frequent_terms(str.split, [], 5) == []
+
+
+# Common practice (no outside source): cue words keep stop words and word pairs,
+# and the indicators mark exactly the sentences holding them.
+def test_cue_words_keep_stop_words_and_word_pairs():
+    assert cue_analyzer("However, we propose it.") == ["however", "we", "propose", "it", "however we",
+                                                       "we propose", "propose it"]
+    cues = fit_cue_words(["However the pump failed.", "However we replaced it.", "It failed."], 3)
+    assert cues.vocabulary == ["failed", "however", "it"]  # each in two texts: ties go alphabetically
+    rows = cues.transform(["However, it held.", "Nothing here."]).toarray()
+    assert rows.tolist() == [[0.0, 1.0, 1.0], [0.0, 0.0, 0.0]]
+    assert fit_cue_words(["...", "!"], 3).transform(["anything"]).nnz == 0

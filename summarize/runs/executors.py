@@ -184,7 +184,7 @@ class _WindowedExecutor(ABC):
     reads_files = True
 
     @abstractmethod
-    def _submit_reading(self, entries: list[Path | Document], reading: FileReading):
+    def _submit_reading(self, entries: list[Path | list], reading: FileReading):
         """Start reading and splitting a batch; return a future of :func:`read_batch`'s result."""
 
     @abstractmethod

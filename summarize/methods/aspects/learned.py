@@ -21,7 +21,7 @@ from store.aspect_records import AspectSummary
 from store.records import Document, Segmentation
 from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.oracle import OracleSummarizer
-from summarize.methods.archive_idf import frequent_terms
+from summarize.methods.archive_idf import NO_TERM, frequent_terms
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import QueryBiasedLexRank
 from summarize.methods.aspects.references import aspect_references
@@ -85,7 +85,7 @@ def cue_analyzer(text: str) -> list[str]:
 def fit_cue_words(archive_texts: Iterable[str], count: int) -> CountVectorizer:
     """Indicators of the ``count`` words and word pairs found in the most documents
     of the archive (no labels involved, like the IDF)."""
-    vocabulary = frequent_terms(cue_analyzer, archive_texts, count) or ["\x00"]
+    vocabulary = frequent_terms(cue_analyzer, archive_texts, count) or [NO_TERM]
     return CountVectorizer(analyzer=cue_analyzer, vocabulary=vocabulary, binary=True, dtype=np.float64)
 
 
