@@ -31,7 +31,7 @@ from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
 from summarize.runs.aspect_runs import AspectModelMissing, summarize_aspects, train_aspects
 
 pytestmark = pytest.mark.slow
-GRID = {"c": (0.002, 0.05), "bias": (0.5, 1.0), "min_probability": (0.2,),
+GRID = {"c": (0.002, 0.05), "label_top": (0, 3), "bias": (0.5, 1.0), "min_probability": (0.2,),
         "relevance": ("probability", "probability-evidence")}
 
 

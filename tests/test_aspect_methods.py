@@ -206,3 +206,38 @@ def test_phrase_required_can_be_switched_off_per_aspect():
     assert loose.params["aspect"]["phrase_required"] is False
     with pytest.raises(UsageError):
         aspects_from_mapping({"x": {"question": "?", "phrases": ["y"], "phrase_required": "yes"}})
+
+
+# External check: the rouge-score package, on ACLSum papers (aclsum package)
+# The labels as the learned scorer's docstring defines them: the greedy oracle's
+# sentences against the aspect reference, plus the `label_top` candidates whose own
+# mean of ROUGE-1 and ROUGE-2 F1 (computed here by rouge-score) is highest.
+def test_learned_labels_are_the_oracle_plus_the_best_single_sentences(papers):
+    from copy import copy
+
+    from rouge_score import rouge_scorer
+
+    from summarize.evaluation.matched import MatchedBudget
+    from summarize.evaluation.oracle import OracleSummarizer
+    from summarize.methods.aspects.learned import LearnedAspectSummarizer
+    from summarize.methods.budget import count_words
+
+    scorer = rouge_scorer.RougeScorer(["rouge1", "rouge2"], use_stemmer=True)
+    aspect = PAPER_ASPECTS[0]
+    examples = papers[:3]
+    model = LearnedAspectSummarizer(aspects=(aspect,), cue_words=0).fit_features([d.text for d, _ in papers])
+    for top in (0, 2):
+        model.label_top = top
+        rows = model.labelled_rows(examples)[aspect.name]
+        for (document, segmentation), (_, labels) in zip(examples, rows):
+            reference = document.metadata[aspect.name]
+            texts = segmentation.sentence_texts(document.text)
+            candidates = [i for i, t in enumerate(texts)
+                          if not segmentation.sentence_is_heading[i] and count_words(t) >= model.min_words]
+            labelled = copy(document)
+            labelled.reference_summary = reference
+            oracle = OracleSummarizer(MatchedBudget().budget_for(reference)).summarize(labelled, segmentation)
+            expected = set(oracle.details["sentence_indices"])
+            alone = {i: sum(v.fmeasure for v in scorer.score(reference, texts[i]).values()) / 2 for i in candidates}
+            expected |= set(sorted(candidates, key=lambda i: (-alone[i], i))[:top])
+            assert {candidates[k] for k in np.flatnonzero(labels)} == expected

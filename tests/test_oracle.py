@@ -8,7 +8,7 @@ from dataclasses import replace
 import pytest
 from rouge_score import rouge_scorer
 
-from summarize.evaluation.oracle import OracleSummarizer
+from summarize.evaluation.oracle import OracleSummarizer, sentence_objectives
 from summarize.methods.budget import Budget, count_words
 from summarize.reading.datasets import load_aclsum
 from summarize.reading.split import split_document
@@ -54,6 +54,16 @@ def test_first_choice_is_the_best_single_sentence(papers):
         values = [objective(document.reference_summary, [segmentation.sentences[i].slice(document.text)]) for i in candidates]
         best = candidates[max(range(len(values)), key=lambda k: (values[k], -k))]
         assert summary.details["sentence_indices"] == [best]
+
+
+def test_sentence_objectives_equal_rouge_score_on_each_sentence(papers):
+    # External check: the rouge-score package, on ACLSum papers (aclsum package)
+    for document, segmentation in papers[:3]:
+        texts = segmentation.sentence_texts(document.text)
+        values = sentence_objectives(texts, document.reference_summary)
+        expected = [objective(document.reference_summary, [text]) for text in texts]
+        assert values == pytest.approx(expected, abs=1e-12)
+    assert len(sentence_objectives([], "a reference")) == 0
 
 
 def test_adding_sentences_never_lowers_the_objective(papers):

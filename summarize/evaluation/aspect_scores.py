@@ -13,7 +13,7 @@ from summarize.evaluation.matched import MatchedBudget
 from summarize.evaluation.oracle import OracleSummarizer
 from summarize.evaluation.rouge import RougeMetric
 from summarize.methods.aspects.definitions import Aspect
-from summarize.methods.aspects.learned import LearnedAspectSummarizer
+from summarize.methods.aspects.learned import TUNABLE, LearnedAspectSummarizer
 from summarize.methods.aspects.references import aspect_references
 from summarize.methods.aspects.selection import AspectSummarizer
 from summarize.methods.budget import Budget
@@ -25,6 +25,7 @@ GENERIC_METHODS = ("lead", "tfidf", "textrank")
 # Settings the learned variant is tuned over (on validation documents only).
 TUNING_GRID = {
     "c": (0.002, 0.05),
+    "label_top": (0, 3, 5),
     "bias": (0.5, 0.85, 1.0),
     "min_probability": (0.2, 0.5),
     "relevance": ("probability", "probability-evidence"),
@@ -118,42 +119,50 @@ def tune_learned(
     cue_words: int = LearnedAspectSummarizer.cue_words,
 ) -> TunedLearned:
     """Train the learned variant on ``train`` and choose, for each aspect on its own,
-    the setting of ``grid`` (keys among ``c``, ``bias``, ``min_probability``,
-    ``relevance``) with the best mean ROUGE-1 F1 on ``validation``. The test split
+    the setting of ``grid`` (keys among :data:`TUNABLE`: ``c``, ``label_top``,
+    ``bias``, ``min_probability``, ``relevance``) with the best mean ROUGE-1 F1 on ``validation``. The test split
     plays no part."""
+    unknown = sorted(set(grid) - set(TUNABLE))
+    if unknown:
+        raise ValueError(f"cannot tune {', '.join(unknown)}; tunable settings: {', '.join(TUNABLE)}")
     metric = RougeMetric(metrics=("rouge1",))
     base = LearnedAspectSummarizer(aspects=aspects, seed=seed, cue_words=cue_words).fit_features(archive_texts)
-    rows = base.labelled_rows(list(train))
+    training = list(train)
     references = [aspect_references(document, aspects) for document, _ in validation]
     choice: dict[str, tuple[float, dict]] = {}
-    models: dict[float, LearnedAspectSummarizer] = {}
-    selection_keys = [key for key in grid if key != "c"]
-    for c in grid.get("c", (base.c,)):
-        model = base.untrained_copy()
-        model.c = c
-        models[c] = model.fit_rows(rows)
-        for aspect in aspects:
-            if aspect.name not in models[c].models_:
-                continue
-            known = [
-                (document, segmentation, references[i][aspect.name],
-                 models[c].sentence_evidence(document, segmentation, aspect))
-                for i, (document, segmentation) in enumerate(validation) if references[i].get(aspect.name)
-            ]
-            for values in itertools.product(*(grid[key] for key in selection_keys)):
-                settings = {"c": c, **dict(zip(selection_keys, values))}
-                models[c].per_aspect = {aspect.name: settings}
-                total = 0.0
-                for document, segmentation, reference, evidence in known:
-                    models[c].budget = MatchedBudget().budget_for(reference)
-                    sentences = models[c].summarize(document, segmentation, aspect, evidence).sentences
-                    total += metric.score([s.text for s in sentences], [reference])["rouge1"].f1
-                value = total / max(len(known), 1)
-                if aspect.name not in choice or value > choice[aspect.name][0]:
-                    choice[aspect.name] = (value, settings)
+    # Settings that change the trained scorer (labels, regularisation) are looped
+    # over outside; those that only change selection reuse each scorer's probabilities.
+    selection_keys = [key for key in grid if key not in ("c", "label_top")]
+    for label_top in grid.get("label_top", (base.label_top,)):
+        labelling = base.untrained_copy()
+        labelling.label_top = label_top
+        rows = labelling.labelled_rows(training)
+        for c in grid.get("c", (base.c,)):
+            model = labelling.untrained_copy()
+            model.c = c
+            model.fit_rows(rows)
+            for aspect in aspects:
+                if aspect.name not in model.models_:
+                    continue
+                known = [
+                    (document, segmentation, references[i][aspect.name],
+                     model.sentence_evidence(document, segmentation, aspect))
+                    for i, (document, segmentation) in enumerate(validation) if references[i].get(aspect.name)
+                ]
+                for values in itertools.product(*(grid[key] for key in selection_keys)):
+                    settings = {"c": c, "label_top": label_top, **dict(zip(selection_keys, values))}
+                    model.per_aspect = {aspect.name: settings}
+                    total = 0.0
+                    for document, segmentation, reference, evidence in known:
+                        model.budget = MatchedBudget().budget_for(reference)
+                        sentences = model.summarize(document, segmentation, aspect, evidence).sentences
+                        total += metric.score([s.text for s in sentences], [reference])["rouge1"].f1
+                    value = total / max(len(known), 1)
+                    if aspect.name not in choice or value > choice[aspect.name][0]:
+                        choice[aspect.name] = (value, settings)
     tuned = base.untrained_copy()
     tuned.per_aspect = {name: settings for name, (_, settings) in choice.items()}
-    tuned.fit_rows(rows)
+    tuned.fit_rows(tuned.labelled_rows(training))
     return TunedLearned(tuned, tuned.per_aspect, {name: value for name, (value, _) in choice.items()})
 
 

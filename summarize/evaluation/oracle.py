@@ -96,6 +96,17 @@ class OracleSummarizer(ParamsFromFields):
         return summary
 
 
+def sentence_objectives(sentence_texts: list[str], reference: str) -> np.ndarray:
+    """The oracle's objective ``J`` of each sentence on its own: the mean of its
+    ROUGE-1 and ROUGE-2 F1 against ``reference`` (Porter stemming), as the first
+    step of :class:`OracleSummarizer`'s greedy search computes it."""
+    if not sentence_texts:
+        return np.zeros(0)
+    metric = RougeMetric(metrics=("rouge1", "rouge2"), stemming=True)
+    search = _OverlapSearch([metric.tokens(t) for t in sentence_texts], metric.tokens(reference))
+    return search.objectives(list(range(len(sentence_texts))))
+
+
 def _bigrams(tokens: list[str]) -> list[tuple[str, str]]:
     return list(zip(tokens, tokens[1:]))
 

@@ -20,7 +20,7 @@ from threadpoolctl import threadpool_limits
 from store.aspect_records import AspectSummary
 from store.records import Document, Segmentation
 from summarize.evaluation.matched import MatchedBudget
-from summarize.evaluation.oracle import OracleSummarizer
+from summarize.evaluation.oracle import OracleSummarizer, sentence_objectives
 from summarize.methods.archive_idf import NO_TERM, frequent_terms
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import QueryBiasedLexRank
@@ -44,7 +44,7 @@ ASPECT_FEATURE_NAMES = (*FEATURE_NAMES, "aspect_evidence", "aspect_evidence_rank
                         *(f"opening_{k + 1}" for k in range(OPENING_SENTENCES)), "opening_inverse", "cue_words")
 MODELS = ("logistic", "gradient-boosting")
 Example = tuple[Document, Segmentation]
-TUNABLE = ("c", "bias", "min_probability", "relevance")
+TUNABLE = ("c", "label_top", "bias", "min_probability", "relevance")
 RELEVANCE_RULES = ("probability", "probability-evidence")
 
 
@@ -114,10 +114,21 @@ class LearnedAspectSummarizer:
     Kupiec, Pedersen & Chen 1995, and "however", "we propose", "results show" as signs of
     a sentence's rhetorical role Teufel & Moens 2002, both cited from memory), plus, per aspect,
     ``evidence(s)``, the guide-phrase count and the query-biased LexRank score
-    (Otterbacher, Erkan & Radev 2005), raw and as within-document rank shares. Labels: ``y = 1`` for the sentences the greedy extractive oracle
+    (Otterbacher, Erkan & Radev 2005), raw and as within-document rank shares.
+
+    Labels: ``y = 1`` for the sentences the greedy extractive oracle
     (:class:`~summarize.evaluation.oracle.OracleSummarizer`) picks against that
-    aspect's reference, at the reference's length in words; documents without a
-    reference for an aspect do not train it. One classifier per aspect learns
+    aspect's reference, at the reference's length in words, and for the
+    ``label_top`` sentences that score best on their own against it (the oracle's
+    objective, mean ROUGE-1/2 F1, :func:`~summarize.evaluation.oracle.sentence_objectives`;
+    only those scoring above 0). A short reference makes the oracle pick one or two
+    sentences, so oracle labels alone leave the scorer very few positives, and a
+    sentence that says nearly the same as the one picked is labelled negative; the
+    added top sentences soften that. Scoring sentences by their own ROUGE against the
+    reference follows Cao et al. (2015) (cited from memory); taking the union with the
+    oracle and ``label_top`` are our own choice, ``label_top = 0`` is oracle labels
+    alone. Documents without a reference for an aspect do not train it. One
+    classifier per aspect learns
     ``P(y = 1 | features)`` with balanced class weights (``model``: l2 logistic
     regression with inverse strength ``c`` on standardised features, or scikit-learn's
     histogram gradient boosting). Oracle labels as targets follow Nallapati et al.
@@ -130,7 +141,7 @@ class LearnedAspectSummarizer:
     ``rel`` alone — then MMR (Carbonell & Goldstein 1998) with ``mmr_lambda`` and the
     budget. Confidence = mean ``P`` of the chosen sentences.
 
-    ``c``, ``bias``, ``min_probability`` and ``relevance`` are defaults;
+    ``c``, ``label_top``, ``bias``, ``min_probability`` and ``relevance`` are defaults;
     ``per_aspect`` overrides them for single aspects (set by tuning on held-out
     documents, so each aspect gets its own). Aspects without a trained scorer fall
     back to the unlearned :class:`~summarize.methods.aspects.selection.AspectSummarizer`.
@@ -146,6 +157,7 @@ class LearnedAspectSummarizer:
     relevance: str = "probability-evidence"
     mmr_lambda: float = 0.7
     cue_words: int = 50
+    label_top: int = 3
     per_aspect: dict = field(default_factory=dict)
     seed: int = 0
     name: str = field(default="aspect-learned", init=False)
@@ -161,6 +173,7 @@ class LearnedAspectSummarizer:
             "relevance": self.relevance,
             "mmr_lambda": self.mmr_lambda,
             "cue_words": self.cue_words,
+            "label_top": self.label_top,
             "per_aspect": self.per_aspect,
             "seed": self.seed,
             "aspects": [aspect.as_dict() for aspect in self.aspects],
@@ -188,14 +201,15 @@ class LearnedAspectSummarizer:
         return self.fit_rows(self.labelled_rows(examples))
 
     def labelled_rows(self, examples: list[Example]) -> dict[str, list[tuple[np.ndarray, np.ndarray]]]:
-        """Aspect name → (feature rows, oracle labels) of each document with that aspect's reference."""
+        """Aspect name → (feature rows, labels) of each document with that aspect's reference."""
         rows: dict[str, list[tuple[np.ndarray, np.ndarray]]] = {aspect.name: [] for aspect in self.aspects}
         for document, segmentation in examples:
             references = aspect_references(document, self.aspects)
             if not references:
                 continue
             base = self.features_.transform(document, segmentation)
-            words = [count_words(t) for t in segmentation.sentence_texts(document.text)]
+            texts = segmentation.sentence_texts(document.text)
+            words = [count_words(t) for t in texts]
             candidates = selectable_sentences(segmentation, words, self.min_words)
             for aspect in self.aspects:
                 reference = references.get(aspect.name)
@@ -208,9 +222,20 @@ class LearnedAspectSummarizer:
                 )
                 labels = np.zeros(len(words))
                 labels[oracle.details["sentence_indices"]] = 1.0
+                labels[self._best_alone(texts, candidates, reference, self.setting(aspect.name, "label_top"))] = 1.0
                 features = np.hstack([base, self._aspect_columns(document, segmentation, aspect)[0]])
                 rows[aspect.name].append((features[candidates], labels[candidates]))
         return rows
+
+    @staticmethod
+    def _best_alone(texts: list[str], candidates: list[int], reference: str, count: int) -> list[int]:
+        """The ``count`` candidates whose own oracle objective is highest and above 0
+        (ties: the earlier sentence)."""
+        if count <= 0:
+            return []
+        values = sentence_objectives([texts[i] for i in candidates], reference)
+        order = np.argsort(-values, kind="stable")[:count]
+        return [candidates[k] for k in order if values[k] > 0]
 
     def fit_rows(self, rows: dict[str, list[tuple[np.ndarray, np.ndarray]]]) -> LearnedAspectSummarizer:
         self.models_ = {}
