@@ -17,6 +17,7 @@ from collections.abc import Iterable
 import sqlite_utils
 
 from store.duplicates import canonical_rank, make_canonical, still_active, stored_rank
+from store.id_sets import IdSet
 from store.records import Document, Segmentation, Summary
 from store.reference_history import replace_reference
 from store.references import References
@@ -191,15 +192,16 @@ class StoreWrites:
             ).fetchone()
         )
 
-    def documents_with_summary(self, method: str, param_hash: str) -> set[int]:
+    def documents_with_summary(self, method: str, param_hash: str) -> IdSet:
         """Ids of the documents that have a summary by ``method`` with these parameters
-        (one query per method, instead of one per document)."""
-        return {
+        (one query per method, instead of one per document; a bitmap, so that a
+        rerun over a large archive does not hold every id as a Python object)."""
+        return IdSet().update(
             row[0]
             for row in self.db.execute(
                 "select document_id from summaries where method = ? and param_hash = ?", [method, param_hash]
             )
-        }
+        )
 
     def add_summary(self, document_id: int, run_id: int, summary: Summary) -> int:
         """Store a summary with its sentences, sources and flags; a summary already

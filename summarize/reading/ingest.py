@@ -41,6 +41,7 @@ from pathlib import Path
 from store.records import Document
 from summarize.reading.exclusions import ArchiveExclusions
 from summarize.reading.limits import LimitExceeded, ReadLimits, current_limits, time_limit, using_limits
+from summarize.reading.path_hashes import PathHashes
 from summarize.reading.readers.blocks import DATE_IN_FILE_METADATA, DATE_IN_TEXT, Extract, lay_out
 from summarize.reading.readers.docx import read_docx
 from summarize.reading.readers.errors import ReadError
@@ -131,18 +132,17 @@ class ArchiveFiles:
     def __iter__(self) -> Iterator[Path | IngestProblem]:
         for problem_path, reason in self.exclusions.problems:
             yield IngestProblem(display_path(problem_path), reason, "error")
-        # The resolved paths read so far, as their 64-bit string hashes (about 60
-        # bytes a file instead of 200): a file reached again through a link is read
-        # once. Two different paths with the same hash would leave the second
-        # unread: a chance of about one in 10^9 at 100,000 files.
-        seen: set[int] = set()
+        # The resolved paths read so far (as hashes: a few bytes a file), so that a
+        # file reached again through a link is read once. Two different paths with
+        # the same hash would leave the second unread: see PathHashes.
+        seen = PathHashes()
         for file in self.walk:
             if _left_out(file, self.exclusions):
                 continue
             if isinstance(file, IngestProblem):
                 yield file
                 continue
-            resolved = hash(os.path.realpath(file))
+            resolved = os.path.realpath(file)
             if resolved in seen:
                 continue
             seen.add(resolved)

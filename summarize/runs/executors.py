@@ -303,6 +303,12 @@ class ProcessExecutor(_WindowedExecutor):
         self.window = 2 * workers
 
     def __enter__(self):
+        # Workers are forked from this process and share its pages until either side
+        # writes to them. This process's own collections would write to every object
+        # it holds (the collector's bookkeeping lives in each object), copying those
+        # pages for the workers: frozen objects are never visited. They are unfrozen
+        # when the pool is gone. (gc.freeze's documented use before fork().)
+        gc.freeze()
         self.pool = ProcessPoolExecutor(
             max_workers=self.workers, initializer=_init_worker, initargs=(self.methods, os.getpid())
         )
@@ -310,6 +316,7 @@ class ProcessExecutor(_WindowedExecutor):
 
     def __exit__(self, *exc) -> None:
         self.pool.shutdown(wait=True, cancel_futures=True)
+        gc.unfreeze()
 
     def _submit_reading(self, entries, reading):
         return self.pool.submit(read_batch, entries, reading)

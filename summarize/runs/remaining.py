@@ -16,31 +16,14 @@ only once it is read, so the count is then a lower bound).
 
 from __future__ import annotations
 
-from array import array
 from collections.abc import Iterable
+
+from summarize.reading.path_hashes import PathHashes
 
 
 def file_of(key: str) -> str:
     """The file behind a record key or problem path ('a.jsonl#3' -> 'a.jsonl')."""
     return key.split("#", 1)[0]
-
-
-class IdSet:
-    """A set of document ids as a bitmap: one bit per id up to the largest added
-    (12.5 KB per 100,000 ids), where a Python set takes about 60 bytes per id."""
-
-    def __init__(self):
-        self._bits = bytearray()
-
-    def add(self, document_id: int) -> None:
-        byte = document_id >> 3
-        if byte >= len(self._bits):
-            self._bits.extend(bytes(max(byte + 1 - len(self._bits), len(self._bits))))
-        self._bits[byte] |= 1 << (document_id & 7)
-
-    def __contains__(self, document_id: int) -> bool:
-        byte = document_id >> 3
-        return byte < len(self._bits) and bool(self._bits[byte] & (1 << (document_id & 7)))
 
 
 class ReadingTracker:
@@ -49,18 +32,16 @@ class ReadingTracker:
     ``done`` is told of each once it is stored or recorded. A file is read when all
     of its items are done.
 
-    Only the few files in flight are held by name; a finished file is kept as the
-    8-byte hash of its path (Python's 64-bit string hash, stable within the process
-    and never stored), so 100,000 files take under a megabyte. Two paths with the
-    same hash would count as both read: a chance of about one in 10^9 at 100,000
-    files."""
+    Only the few files in flight are held by name; finished files are kept as
+    :class:`~summarize.reading.path_hashes.PathHashes` (about 8 bytes a file). Two
+    paths with the same hash would count as both read: a chance of about one in 10^9
+    at 100,000 files."""
 
     def __init__(self):
         self._walk_ended = False
         self._out = 0
         self._items_left: dict[str, int] = {}
-        self._finished = array("q")
-        self._finished_set: set[int] | None = None
+        self._finished = PathHashes()
 
     def starting(self, file: str, items: int) -> None:
         if items:
@@ -76,8 +57,7 @@ class ReadingTracker:
             self._finish(file)
 
     def _finish(self, file: str) -> None:
-        self._finished.append(hash(file))
-        self._finished_set = None
+        self._finished.add(file)
 
     def handed_out(self) -> None:
         """A file of the walk went out to be read; until it is ``returned``, nothing
@@ -97,9 +77,7 @@ class ReadingTracker:
         return self._walk_ended and not self._out and not self._items_left
 
     def read(self, file: str) -> bool:
-        if self._finished_set is None:
-            self._finished_set = set(self._finished)
-        return file not in self._items_left and hash(file) in self._finished_set
+        return file not in self._items_left and file in self._finished
 
     def unread(self, archive_files: Iterable[str]) -> list[str]:
         """The files of the archive not read to the end, in walk order."""

@@ -32,6 +32,7 @@ from dataclasses import asdict, dataclass, field
 from itertools import groupby
 from pathlib import Path
 
+from store.id_sets import IdSet
 from store.lock import describe_holder
 from store.records import Document, param_hash
 from store.runs import recorded_run
@@ -46,8 +47,9 @@ from summarize.reading.sentences import SentenceSplitter
 from summarize.reading.split import DEFAULT_SPLITTER
 from summarize.runs.executors import FileReading, check_scheduler, make_executor
 from summarize.runs.known_failures import FailureSorter
+from summarize.runs.pending import PendingSummaries
 from summarize.runs.progress import ProgressCallback, ProgressTracker
-from summarize.runs.remaining import IdSet, ReadingTracker, documents_remaining, file_of
+from summarize.runs.remaining import ReadingTracker, documents_remaining, file_of
 from summarize.runs.stopping import StopConditions
 from summarize.runs.writer_load import WriterLoad
 
@@ -403,19 +405,15 @@ def _resolve_run_time_methods(store: Store, run_id: int, active: list, config: d
     return resolved
 
 
-def _pending(
-    store: Store, document_ids: Iterable[int], active: list, report: RunReport | None = None
-) -> dict[int, frozenset[str]]:
+def _pending(store: Store, document_ids: Iterable[int], active: list, report: RunReport | None = None) -> PendingSummaries:
     """Method names still to run, per document (one query per method); counts the
-    summaries already stored as skipped in ``report``, when given. Documents that
-    lack the same methods share one set of names."""
+    summaries already stored as skipped in ``report``, when given."""
     done = {
         method.name: store.documents_with_summary(method.name, param_hash(method.name, method.get_params()))
         for method in active
     }
-    shared: dict[frozenset[str], frozenset[str]] = {}
-    todo: dict[int, frozenset[str]] = {}
-    for document_id in document_ids:
+
+    def lacking(document_id: int) -> frozenset[str]:
         names = frozenset(
             method.name
             for method in active
@@ -424,9 +422,9 @@ def _pending(
         )
         if report is not None:
             report.summaries_skipped += len(active) - len(names)
-        if names:
-            todo[document_id] = shared.setdefault(names, names)
-    return todo
+        return names
+
+    return PendingSummaries((document_id, lacking(document_id)) for document_id in document_ids)
 
 
 def _summarize_all(store, run_id, document_ids, active, report, progress, stop, workers, scheduler, grouping) -> None:
@@ -445,17 +443,15 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     progress.start(len(todo), "documents summarized")
 
     def finished(document_id: int, names: set[str]) -> None:
-        todo[document_id] = todo[document_id] - names
-        if not todo[document_id]:
-            del todo[document_id]
+        if todo.finish(document_id, names):
             report.documents_summarized += 1
             progress.advance()
 
     # Read from the store as workers take them: only the documents in flight are in memory.
     jobs = (
-        (document_id, store.documents.load(document_id), sorted(todo[document_id] & per_document_names))
+        (document_id, store.documents.load(document_id), sorted(todo.names(document_id) & per_document_names))
         for document_id in document_ids
-        if todo.get(document_id, frozenset()) & per_document_names
+        if todo.names(document_id) & per_document_names
     )
     load = WriterLoad()
     load.start()
@@ -470,7 +466,7 @@ def _summarize_all(store, run_id, document_ids, active, report, progress, stop, 
     load.stop()
     report.writer["summarizing"] = {**load.counts(), "groups": groups.groups_committed}
     for method in batched:
-        wanted = [d for d, names in todo.items() if method.name in names]
+        wanted = todo.wanting(method.name)
         size = method.batch_documents
         for start in range(0, len(wanted), size):
             if stop.reason():
