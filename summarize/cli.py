@@ -29,6 +29,7 @@ from summarize.reading.exclusions import BadExcludePattern, check_patterns
 from summarize.reading.ingest import ReadLimits
 from summarize.reading.limits import MIB
 from summarize.reading.sentences import SentenceSplitter
+from summarize.runs.allocator import release_large_blocks
 from summarize.runs.jobfile import load_job
 from summarize.runs.progress import TerminalProgress, configure_log_file
 from summarize.runs.progress import log as run_log
@@ -275,6 +276,8 @@ def run(ctx, paths, db_path, methods, budget, mmr, workers, group_documents, gro
         if key in job and ctx.get_parameter_source(key) is click.core.ParameterSource.DEFAULT:
             read_options[key] = job[key]
     configure_log_file(log or job.get("log"))
+    # A night's run is a long process of its own: keep its memory from creeping up.
+    release_large_blocks()
     try:
         report = api.run(paths, db_path, settings, progress=TerminalProgress(quiet=quiet),
                          limits=_read_limits(read_options), follow_links_outside=read_options["follow_links_outside"],
