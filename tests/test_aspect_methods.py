@@ -4,19 +4,25 @@ selection rules, labelled references."""
 from __future__ import annotations
 
 import math
+from copy import copy
 
 import networkx as nx
 import numpy as np
 import pytest
+from rouge_score import rouge_scorer
 
 from store.errors import UsageError
 from store.records import Document
+from summarize.evaluation.matched import MatchedBudget
+from summarize.evaluation.oracle import OracleSummarizer
 from summarize.methods.aspects.definitions import PAPER_ASPECTS, REPORT_ASPECTS, Aspect, aspects_from_mapping
+from summarize.methods.aspects.learned import LearnedAspectSummarizer
 from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexRank, cosine_graph
 from summarize.methods.aspects.negation import NegationScope
 from summarize.methods.aspects.references import aspect_references, labelled_sections
 from summarize.methods.aspects.relevance import QueryRelevance
 from summarize.methods.aspects.selection import AspectSummarizer
+from summarize.methods.budget import count_words
 from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
 from summarize.reading.split import split_document
 
@@ -213,15 +219,6 @@ def test_phrase_required_can_be_switched_off_per_aspect():
 # sentences against the aspect reference, plus the `label_top` candidates whose own
 # mean of ROUGE-1 and ROUGE-2 F1 (computed here by rouge-score) is highest.
 def test_learned_labels_are_the_oracle_plus_the_best_single_sentences(papers):
-    from copy import copy
-
-    from rouge_score import rouge_scorer
-
-    from summarize.evaluation.matched import MatchedBudget
-    from summarize.evaluation.oracle import OracleSummarizer
-    from summarize.methods.aspects.learned import LearnedAspectSummarizer
-    from summarize.methods.budget import count_words
-
     scorer = rouge_scorer.RougeScorer(["rouge1", "rouge2"], use_stemmer=True)
     aspect = PAPER_ASPECTS[0]
     examples = papers[:3]

@@ -31,12 +31,8 @@ class PathHashes:
 
     def __contains__(self, path: str) -> bool:
         value = hash(path)
-        return value in self._recent or self._merged(value)
-
-    def __len__(self) -> int:
-        return len(self._sorted) + sum(1 for value in self._recent if not self._merged(value))
-
-    def _merged(self, value: int) -> bool:
+        if value in self._recent:
+            return True
         at = int(np.searchsorted(self._sorted, value))
         return at < len(self._sorted) and int(self._sorted[at]) == value
 

@@ -309,9 +309,13 @@ class ProcessExecutor(_WindowedExecutor):
         # pages for the workers: frozen objects are never visited. They are unfrozen
         # when the pool is gone. (gc.freeze's documented use before fork().)
         gc.freeze()
-        self.pool = ProcessPoolExecutor(
-            max_workers=self.workers, initializer=_init_worker, initargs=(self.methods, os.getpid())
-        )
+        try:
+            self.pool = ProcessPoolExecutor(
+                max_workers=self.workers, initializer=_init_worker, initargs=(self.methods, os.getpid())
+            )
+        except BaseException:
+            gc.unfreeze()
+            raise
         return self
 
     def __exit__(self, *exc) -> None:
