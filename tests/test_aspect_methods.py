@@ -194,6 +194,30 @@ def test_relevance_needs_a_guide_phrase_that_is_not_negated():
     assert [s.text for s in answer.sentences] == ["The outage resulted from a failed relay at the substation."]
 
 
+# Common practice (no outside source): invented report text. Incident timelines
+# drop the auxiliary verb ("12:10: pressure restored", "fix deployed"); such a
+# report addresses the actions aspect, and a closure that is not a response
+# (a school shut for its holiday) is not the answer.
+def test_timeline_entries_without_an_auxiliary_answer_the_actions_aspect():
+    actions = REPORT_ASPECTS[1]
+    text = ("Sequence of events\n\n- 03:05: The duty pump tripped on high bearing temperature. "
+            "- 09:15: A replacement contactor coil was obtained from the stores. "
+            "- 11:40: Standby pump restarted and pressure restored to the zone. "
+            "- 14:00: Fix deployed to the telemetry outstation. "
+            "The primary school was closed for the summer holiday. "
+            "Attendance at the customer hall was lower than expected.")
+    document = Document("t", "t.txt", text, "text", "6" * 64, len(text))
+    summarizer = AspectSummarizer().fit([text])
+    texts = split_document(document).sentence_texts(text)
+    _, hits = summarizer.evidence(texts, actions)
+    answering = {t for t, h in zip(texts, hits) if h}
+    assert any("restarted and pressure restored" in t for t in answering)
+    assert any("Fix deployed" in t for t in answering)
+    answer = summarizer.summarize(document, split_document(document), actions)
+    assert answer.addressed
+    assert "restarted and pressure restored" in answer.text and "summer holiday" not in answer.text
+
+
 # Common practice (no outside source): invented sentences. An aspect that every
 # document addresses (phrase_required false) may be answered by the question's
 # words alone; the default aspect may not.

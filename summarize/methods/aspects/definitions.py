@@ -82,9 +82,13 @@ REPORT_ASPECTS: tuple[Aspect, ...] = (
         "actions",
         "What was done in response?",
         ("immediate action", "was isolated", "were isolated", "we replaced", "was replaced", "were replaced",
-         "was repaired", "was restored", "were restored", "was shut down", "was closed", "was issued",
-         "were notified", "was stopped", "were deployed", "was disabled", "were disabled", "was fixed",
-         "straight away", "at once", "within hours"),
+         "was repaired", "was shut down", "was closed", "was issued", "were notified", "was stopped",
+         "straight away", "at once", "within hours", "in response", "was taken", "were taken", "called back",
+         "was informed", "were informed",
+         # Timelines drop the auxiliary ("12:10: pressure restored", "fix deployed"), so
+         # participles that rarely describe anything but a response stand alone.
+         "restored", "restarted", "reinstated", "deployed", "disabled", "fitted", "was fixed", "were fixed",
+         "been fixed"),
         ("Actions", "Actions taken", "Action taken", "What was done", "Response"),
     ),
     Aspect(
