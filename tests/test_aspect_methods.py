@@ -21,7 +21,7 @@ from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexR
 from summarize.methods.aspects.negation import NegationScope
 from summarize.methods.aspects.references import aspect_references, labelled_sections
 from summarize.methods.aspects.relevance import QueryRelevance
-from summarize.methods.aspects.selection import AspectSummarizer
+from summarize.methods.aspects.selection import AspectSummarizer, list_item_fields
 from summarize.methods.budget import count_words
 from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
 from summarize.reading.split import split_document
@@ -216,6 +216,34 @@ def test_timeline_entries_without_an_auxiliary_answer_the_actions_aspect():
     answer = summarizer.summarize(document, split_document(document), actions)
     assert answer.addressed
     assert "restarted and pressure restored" in answer.text and "summer holiday" not in answer.text
+
+
+# Common practice (no outside source): invented report text. An agreed-actions list
+# gives each item's fields ("Owner: …", "Target: … by December 2024") as sentences of
+# their own after the item's first sentence; a field alone answers nothing, and its
+# guide phrase ("by <date>") counts for the item it belongs to.
+def test_list_item_fields_count_for_their_item_and_never_answer_alone():
+    open_items = REPORT_ASPECTS[2]
+    text = ("Agreed actions\n\n"
+            "The following items were agreed with the board.\n"
+            "1. Replace the three station pumps with variable-speed units. Owner: Jo Bell. "
+            "Target: business case to the capital committee by December 2024.\n"
+            "2. Review the maintenance records at the station. Owner: Sam Hale. Target: report by February 2025.\n"
+            "Note: the pumps date from 1988. The site was visited twice in the summer.")
+    document = Document("l", "l.txt", text, "text", "7" * 64, len(text))
+    segmentation = split_document(document)
+    texts = segmentation.sentence_texts(text)
+    index = {t: i for i, t in enumerate(texts)}
+    first = index["1. Replace the three station pumps with variable-speed units."]
+    second = index["2. Review the maintenance records at the station."]
+    assert list_item_fields(text, segmentation) == {
+        index["Owner: Jo Bell."]: first,
+        index["Target: business case to the capital committee by December 2024."]: first,
+        index["Owner: Sam Hale."]: second,
+        index["Target: report by February 2025."]: second,
+    }  # "Note: …" starts a line that is not a list item: not a field
+    answer = AspectSummarizer().fit([text]).summarize(document, segmentation, open_items)
+    assert [s.text for s in answer.sentences] == [texts[first], texts[second]]
 
 
 # Common practice (no outside source): invented sentences. An aspect that every

@@ -12,7 +12,7 @@ from store.records import Document, Segmentation
 from summarize.methods.aspects.definitions import Aspect
 from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexRank
 from summarize.methods.aspects.relevance import QueryRelevance
-from summarize.methods.aspects.selection import answer_candidates
+from summarize.methods.aspects.selection import answer_candidates, judged_texts
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score
 
@@ -28,18 +28,21 @@ class PooledSentences:
     spans: list
     texts: list[str]
     words: list[int]
+    judged: list[str]  # what relevance to an aspect is judged on (selection.judged_texts)
 
 
 def pool_sentences(documents: list[StoredDocument], min_words: int, max_words: int) -> PooledSentences:
-    pooled = PooledSentences([], [], [], [])
+    pooled = PooledSentences([], [], [], [], [])
     for document_id, document, segmentation in documents:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        for index in answer_candidates(segmentation, texts, words, min_words, max_words):
+        judged, fields = judged_texts(document.text, segmentation, texts)
+        for index in answer_candidates(segmentation, texts, words, min_words, max_words, fields):
             pooled.documents.append(document_id)
             pooled.spans.append(segmentation.sentences[index])
             pooled.texts.append(texts[index])
             pooled.words.append(words[index])
+            pooled.judged.append(judged[index])
     return pooled
 
 
@@ -70,9 +73,10 @@ class DigestSummarizer:
     merging and MMR (Carbonell & Goldstein 1998).
 
     1. Pool the sentences an answer may use (no headings, ``min_words`` to
-       ``max_words`` words); for
-       an aspect keep those with ``evidence(s) ≥ min_evidence``
-       (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
+       ``max_words`` words, no list item fields); for an aspect keep those with
+       ``evidence(s) ≥ min_evidence``
+       (:class:`~summarize.methods.aspects.relevance.QueryRelevance`; a list item's
+       first sentence judged with its fields, as for aspect answers).
     2. TF-IDF vectors (IDF fitted over the selected documents, so a digest depends on
        its selection alone), the cosine graph with ``top_k`` edges per sentence, and
        LexRank scores ``p`` with ``damping`` (``bias`` for the aspect form).
@@ -128,11 +132,11 @@ class DigestSummarizer:
         relevance = QueryRelevance().fit([document.text for _, document, _ in documents] or ["empty"])
         details = {"documents": len(documents), "pooled_sentences": len(pooled.texts)}
         if aspect is not None and pooled.texts:
-            raw, _ = relevance.relevance(pooled.texts, aspect)
+            raw, _ = relevance.relevance(pooled.judged, aspect)
             evidence = raw / relevance.evidence_unit(aspect)
             keep = [i for i, value in enumerate(evidence) if value >= self.min_evidence]
-            pooled = PooledSentences(*([values[i] for i in keep] for values in
-                                       (pooled.documents, pooled.spans, pooled.texts, pooled.words)))
+            pooled = PooledSentences(*([values[i] for i in keep] for values in (
+                pooled.documents, pooled.spans, pooled.texts, pooled.words, pooled.judged)))
             evidence = evidence[keep]
             details["answering_sentences"] = len(keep)
         if not pooled.texts:

@@ -31,6 +31,8 @@ from summarize.methods.aspects.selection import (
     answer_candidates,
     aspect_params,
     aspect_summary,
+    judged_texts,
+    list_item_fields,
 )
 from summarize.methods.budget import Budget, count_words
 from summarize.methods.extractive import CosineRows, mmr_order, rank_by_score, selectable_sentences
@@ -268,7 +270,7 @@ class LearnedAspectSummarizer:
 
     def _aspect_columns(self, document: Document, segmentation: Segmentation, aspect: Aspect):
         texts = segmentation.sentence_texts(document.text)
-        evidence, hits = self.unlearned_.evidence(texts, aspect)
+        evidence, hits = self.unlearned_.evidence(judged_texts(document.text, segmentation, texts)[0], aspect)
         vectors = self.unlearned_.relevance_.sentence_vectors(texts)
         lexrank = QueryBiasedLexRank(self.unlearned_.bias, self.unlearned_.top_k).scores(
             vectors, np.clip(evidence, 0, None)
@@ -296,7 +298,8 @@ class LearnedAspectSummarizer:
         """``P`` per sentence (0 for non-candidates), ``evidence(s)``, TF-IDF vectors."""
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        candidates = answer_candidates(segmentation, texts, words, self.min_words, self.unlearned_.max_words)
+        fields = list_item_fields(document.text, segmentation)
+        candidates = answer_candidates(segmentation, texts, words, self.min_words, self.unlearned_.max_words, fields)
         columns, evidence, vectors = self._aspect_columns(document, segmentation, aspect)
         probabilities = np.zeros(len(texts))
         if candidates:

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+import re
+from collections.abc import Container, Iterable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -24,16 +25,53 @@ from summarize.methods.extractive import (
 ASPECT_BUDGET = Budget(sentences=2)
 
 
+# The start of a list item's line: "1. ", "2) ", "- ", "• ", "(a) ", "b) ".
+_LIST_ITEM = re.compile(r"[ \t]*(?:\d{1,3}[.)]|[-–•*]|\(?[A-Za-z0-9]{1,3}\))[ \t]")
+# A field of a list item: "Owner: ", "Target: ", "Due date: ".
+_ITEM_FIELD = re.compile(r"[A-Z][A-Za-z]*(?: [A-Za-z]+){0,2}:[ \t]")
+
+
+def list_item_fields(text: str, segmentation: Segmentation) -> dict[int, int]:
+    """Field sentences of list items → the item's first sentence. A field ("Owner:
+    …", "Target: … by December 2024") follows the first sentence of a list item on
+    the same line: the first sentence says what is to be done, the fields who and
+    when, so a field alone answers nothing, and what it says counts for its item."""
+    fields: dict[int, int] = {}
+    head = None
+    line = -1
+    for index, span in enumerate(segmentation.sentences):
+        start = text.rfind("\n", 0, span.start) + 1
+        if start != line:
+            line = start
+            head = index if _LIST_ITEM.match(text, start) else None
+        elif head is not None and _ITEM_FIELD.match(text, span.start):
+            fields[index] = head
+    return fields
+
+
+def judged_texts(text: str, segmentation: Segmentation, texts: list[str]) -> tuple[list[str], dict[int, int]]:
+    """The text each sentence's relevance to an aspect is judged on — a list item's
+    first sentence together with its fields (:func:`list_item_fields`), any other
+    sentence alone — and the fields."""
+    fields = list_item_fields(text, segmentation)
+    judged = list(texts)
+    for field_index, head in fields.items():
+        judged[head] += " " + texts[field_index]
+    return judged, fields
+
+
 def answer_candidates(
-    segmentation: Segmentation, texts: list[str], words: list[int], min_words: int, max_words: int
+    segmentation: Segmentation, texts: list[str], words: list[int], min_words: int, max_words: int,
+    fields: Container[int] = (),
 ) -> list[int]:
     """Sentences an answer may use: selectable (no headings, at least ``min_words``
     words), at most ``max_words`` long — longer "sentences" are flattened tables or
-    lists, which answer nothing in a few words — and not ending in a colon (a line
-    that introduces a list says nothing by itself)."""
+    lists, which answer nothing in a few words — not ending in a colon (a line
+    that introduces a list says nothing by itself) and not among ``fields`` (list
+    item fields, :func:`list_item_fields`)."""
     return [
         i for i in selectable_sentences(segmentation, words, min_words)
-        if words[i] <= max_words and not texts[i].rstrip().endswith(":")
+        if words[i] <= max_words and not texts[i].rstrip().endswith(":") and i not in fields
     ]
 
 
@@ -66,7 +104,10 @@ class AspectSummarizer:
     Radev 2005) for ranking, MMR (Carbonell & Goldstein 1998) against redundancy.
 
     1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
-       (:class:`~summarize.methods.aspects.relevance.QueryRelevance`).
+       (:class:`~summarize.methods.aspects.relevance.QueryRelevance`); a list item's
+       first sentence is judged together with the item's fields ("Owner: …",
+       "Target: …"), which never answer by themselves (:func:`judged_texts`; our own
+       rule).
     2. Candidates: :func:`answer_candidates` (``min_words`` to ``max_words`` words)
        with ``evidence(s) ≥ min_evidence`` and — when the aspect's
        ``phrase_required`` holds, as by default — a guide-phrase match outside a
@@ -123,9 +164,10 @@ class AspectSummarizer:
     def summarize(self, document: Document, segmentation: Segmentation, aspect: Aspect) -> AspectSummary:
         texts = segmentation.sentence_texts(document.text)
         words = [count_words(t) for t in texts]
-        evidence, phrase_hits = self.evidence(texts, aspect)
+        judged, fields = judged_texts(document.text, segmentation, texts)
+        evidence, phrase_hits = self.evidence(judged, aspect)
         candidates = [
-            i for i in answer_candidates(segmentation, texts, words, self.min_words, self.max_words)
+            i for i in answer_candidates(segmentation, texts, words, self.min_words, self.max_words, fields)
             if evidence[i] >= self.min_evidence and (phrase_hits[i] > 0 or not aspect.phrase_required)
         ]
         best = float(evidence.max()) if len(evidence) else 0.0
