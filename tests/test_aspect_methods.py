@@ -21,7 +21,7 @@ from summarize.methods.aspects.lexrank import ContinuousLexRank, QueryBiasedLexR
 from summarize.methods.aspects.negation import NegationScope
 from summarize.methods.aspects.references import aspect_references, labelled_sections
 from summarize.methods.aspects.relevance import QueryRelevance
-from summarize.methods.aspects.selection import AspectSummarizer, list_item_fields
+from summarize.methods.aspects.selection import AspectSummarizer, list_item_fields, list_lead_ins
 from summarize.methods.budget import count_words
 from summarize.reading.datasets import line_segmentation, load_aclsum_aspects
 from summarize.reading.split import split_document
@@ -243,6 +243,29 @@ def test_list_item_fields_count_for_their_item_and_never_answer_alone():
         index["Target: report by February 2025."]: second,
     }  # "Note: …" starts a line that is not a list item: not a field
     answer = AspectSummarizer().fit([text]).summarize(document, segmentation, open_items)
+    assert [s.text for s in answer.sentences] == [texts[first], texts[second]]
+
+
+# Common practice (no outside source): invented report text. A list introduced by
+# "… was caused by the combination of:" answers the cause aspect through its items,
+# though no item names a cause itself; the list ends at the first line that is not
+# an item.
+def test_a_list_lead_in_counts_for_the_items_it_introduces():
+    cause = REPORT_ASPECTS[0]
+    text = ("Findings\n\nThe burst was caused by the combination of:\n"
+            "1. a pressure surge from the pump trip, well above the normal working range;\n"
+            "2. the first hard frost of the season, with the ground at freezing point overnight.\n"
+            "The repair crew arrived at dawn and the road reopened at noon.\n"
+            "- Traffic was diverted along the bypass for the day.")
+    document = Document("c", "c.txt", text, "text", "8" * 64, len(text))
+    segmentation = split_document(document)
+    texts = segmentation.sentence_texts(text)
+    index = {t: i for i, t in enumerate(texts)}
+    lead_in = index["The burst was caused by the combination of:"]
+    first = index["1. a pressure surge from the pump trip, well above the normal working range;"]
+    second = index["2. the first hard frost of the season, with the ground at freezing point overnight."]
+    assert list_lead_ins(text, segmentation) == {first: lead_in, second: lead_in}
+    answer = AspectSummarizer().fit([text]).summarize(document, segmentation, cause)
     assert [s.text for s in answer.sentences] == [texts[first], texts[second]]
 
 

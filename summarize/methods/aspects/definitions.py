@@ -83,7 +83,7 @@ REPORT_ASPECTS: tuple[Aspect, ...] = (
         "What was done in response?",
         ("immediate action", "was isolated", "were isolated", "we replaced", "was replaced", "were replaced",
          "was repaired", "was shut down", "was closed", "was issued", "were notified", "was stopped",
-         "straight away", "at once", "within hours", "in response", "was taken", "were taken", "called back",
+         "straight away", "at once", "within hours", "in response", "were taken", "called back",
          "was informed", "were informed",
          # Timelines drop the auxiliary ("12:10: pressure restored", "fix deployed"), so
          # participles that rarely describe anything but a response stand alone.

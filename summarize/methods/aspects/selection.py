@@ -49,12 +49,36 @@ def list_item_fields(text: str, segmentation: Segmentation) -> dict[int, int]:
     return fields
 
 
+def list_lead_ins(text: str, segmentation: Segmentation) -> dict[int, int]:
+    """The first sentence of each list item → the sentence ending in a colon that
+    introduces the list ("The burst was caused by the combination of:"). The lead-in
+    says what the items are; an item alone often does not ("1. the pressure
+    transient from the pump trip")."""
+    lead_ins: dict[int, int] = {}
+    lead_in = None
+    line = -1
+    for index, span in enumerate(segmentation.sentences):
+        start = text.rfind("\n", 0, span.start) + 1
+        if start != line:
+            line = start
+            if lead_in is not None and _LIST_ITEM.match(text, start) and not segmentation.sentence_is_heading[index]:
+                lead_ins[index] = lead_in
+            else:
+                lead_in = None
+        if not segmentation.sentence_is_heading[index] and span.slice(text).rstrip().endswith(":"):
+            lead_in = index
+    return lead_ins
+
+
 def judged_texts(text: str, segmentation: Segmentation, texts: list[str]) -> tuple[list[str], dict[int, int]]:
     """The text each sentence's relevance to an aspect is judged on — a list item's
-    first sentence together with its fields (:func:`list_item_fields`), any other
-    sentence alone — and the fields."""
+    first sentence together with the list's lead-in (:func:`list_lead_ins`) and the
+    item's fields (:func:`list_item_fields`), any other sentence alone — and the
+    fields."""
     fields = list_item_fields(text, segmentation)
     judged = list(texts)
+    for head, lead_in in list_lead_ins(text, segmentation).items():
+        judged[head] = f"{texts[lead_in]} {judged[head]}"
     for field_index, head in fields.items():
         judged[head] += " " + texts[field_index]
     return judged, fields
@@ -105,7 +129,8 @@ class AspectSummarizer:
 
     1. ``rel(s | q)`` and its rescaled ``evidence(s)`` for every sentence
        (:class:`~summarize.methods.aspects.relevance.QueryRelevance`); a list item's
-       first sentence is judged together with the item's fields ("Owner: …",
+       first sentence is judged together with the line that introduces the list
+       ("… was caused by the combination of:") and the item's fields ("Owner: …",
        "Target: …"), which never answer by themselves (:func:`judged_texts`; our own
        rule).
     2. Candidates: :func:`answer_candidates` (``min_words`` to ``max_words`` words)
