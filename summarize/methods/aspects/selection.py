@@ -31,6 +31,21 @@ _LIST_ITEM = re.compile(r"[ \t]*(?:\d{1,3}[.)]|[-–•*]|\(?[A-Za-z0-9]{1,3}\))
 _ITEM_FIELD = re.compile(r"[A-Z][A-Za-z]*(?: [A-Za-z]+){0,2}:[ \t]")
 
 
+def _line_starts(text: str, segmentation: Segmentation) -> list[int]:
+    """Where the line holding each sentence's start begins (one pass over the text,
+    so a long document without line breaks costs no more than one with them)."""
+    starts = []
+    line = 0
+    previous = 0
+    for span in segmentation.sentences:
+        newline = text.rfind("\n", previous, span.start)
+        if newline >= 0:
+            line = newline + 1
+        previous = span.start
+        starts.append(line)
+    return starts
+
+
 def list_item_fields(text: str, segmentation: Segmentation) -> dict[int, int]:
     """Field sentences of list items → the item's first sentence. A field ("Owner:
     …", "Target: … by December 2024") follows the first sentence of a list item on
@@ -39,12 +54,11 @@ def list_item_fields(text: str, segmentation: Segmentation) -> dict[int, int]:
     fields: dict[int, int] = {}
     head = None
     line = -1
-    for index, span in enumerate(segmentation.sentences):
-        start = text.rfind("\n", 0, span.start) + 1
+    for index, start in enumerate(_line_starts(text, segmentation)):
         if start != line:
             line = start
             head = index if _LIST_ITEM.match(text, start) else None
-        elif head is not None and _ITEM_FIELD.match(text, span.start):
+        elif head is not None and _ITEM_FIELD.match(text, segmentation.sentences[index].start):
             fields[index] = head
     return fields
 
@@ -57,15 +71,15 @@ def list_lead_ins(text: str, segmentation: Segmentation) -> dict[int, int]:
     lead_ins: dict[int, int] = {}
     lead_in = None
     line = -1
-    for index, span in enumerate(segmentation.sentences):
-        start = text.rfind("\n", 0, span.start) + 1
+    for index, start in enumerate(_line_starts(text, segmentation)):
+        heading = segmentation.sentence_is_heading[index]
         if start != line:
             line = start
-            if lead_in is not None and _LIST_ITEM.match(text, start) and not segmentation.sentence_is_heading[index]:
+            if lead_in is not None and not heading and _LIST_ITEM.match(text, start):
                 lead_ins[index] = lead_in
             else:
                 lead_in = None
-        if not segmentation.sentence_is_heading[index] and span.slice(text).rstrip().endswith(":"):
+        if not heading and segmentation.sentences[index].slice(text).rstrip().endswith(":"):
             lead_in = index
     return lead_ins
 
