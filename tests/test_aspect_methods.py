@@ -194,26 +194,34 @@ def test_relevance_needs_a_guide_phrase_that_is_not_negated():
     assert [s.text for s in answer.sentences] == ["The outage resulted from a failed relay at the substation."]
 
 
+def _split_invented(text: str, key: str):
+    """An invented plain-text document, its segmentation, its sentence texts and
+    each text's index."""
+    document = Document(key, f"{key}.txt", text, "text", key * 64, len(text))
+    segmentation = split_document(document)
+    texts = segmentation.sentence_texts(text)
+    return document, segmentation, texts, {t: i for i, t in enumerate(texts)}
+
+
 # Common practice (no outside source): invented report text. Incident timelines
 # drop the auxiliary verb ("12:10: pressure restored", "fix deployed"); such a
 # report addresses the actions aspect, and a closure that is not a response
 # (a school shut for its holiday) is not the answer.
 def test_timeline_entries_without_an_auxiliary_answer_the_actions_aspect():
     actions = REPORT_ASPECTS[1]
-    text = ("Sequence of events\n\n- 03:05: The duty pump tripped on high bearing temperature. "
-            "- 09:15: A replacement contactor coil was obtained from the stores. "
-            "- 11:40: Standby pump restarted and pressure restored to the zone. "
-            "- 14:00: Fix deployed to the telemetry outstation. "
+    text = ("Sequence of events\n\n- 03:05: The duty pump tripped on high bearing temperature.\n"
+            "- 09:15: A replacement contactor coil was obtained from the stores.\n"
+            "- 11:40: Standby pump restarted and pressure restored to the zone.\n"
+            "- 14:00: Fix deployed to the telemetry outstation.\n\n"
             "The primary school was closed for the summer holiday. "
             "Attendance at the customer hall was lower than expected.")
-    document = Document("t", "t.txt", text, "text", "6" * 64, len(text))
+    document, segmentation, texts, _ = _split_invented(text, "6")
     summarizer = AspectSummarizer().fit([text])
-    texts = split_document(document).sentence_texts(text)
     _, hits = summarizer.evidence(texts, actions)
     answering = {t for t, h in zip(texts, hits) if h}
     assert any("restarted and pressure restored" in t for t in answering)
     assert any("Fix deployed" in t for t in answering)
-    answer = summarizer.summarize(document, split_document(document), actions)
+    answer = summarizer.summarize(document, segmentation, actions)
     assert answer.addressed
     assert "restarted and pressure restored" in answer.text and "summer holiday" not in answer.text
 
@@ -230,10 +238,7 @@ def test_list_item_fields_count_for_their_item_and_never_answer_alone():
             "Target: business case to the capital committee by December 2024.\n"
             "2. Review the maintenance records at the station. Owner: Sam Hale. Target: report by February 2025.\n"
             "Note: the pumps date from 1988. The site was visited twice in the summer.")
-    document = Document("l", "l.txt", text, "text", "7" * 64, len(text))
-    segmentation = split_document(document)
-    texts = segmentation.sentence_texts(text)
-    index = {t: i for i, t in enumerate(texts)}
+    document, segmentation, texts, index = _split_invented(text, "7")
     first = index["1. Replace the three station pumps with variable-speed units."]
     second = index["2. Review the maintenance records at the station."]
     assert list_item_fields(text, segmentation) == {
@@ -257,10 +262,7 @@ def test_a_list_lead_in_counts_for_the_items_it_introduces():
             "2. the first hard frost of the season, with the ground at freezing point overnight.\n"
             "The repair crew arrived at dawn and the road reopened at noon.\n"
             "- Traffic was diverted along the bypass for the day.")
-    document = Document("c", "c.txt", text, "text", "8" * 64, len(text))
-    segmentation = split_document(document)
-    texts = segmentation.sentence_texts(text)
-    index = {t: i for i, t in enumerate(texts)}
+    document, segmentation, texts, index = _split_invented(text, "8")
     lead_in = index["The burst was caused by the combination of:"]
     first = index["1. a pressure surge from the pump trip, well above the normal working range;"]
     second = index["2. the first hard frost of the season, with the ground at freezing point overnight."]
