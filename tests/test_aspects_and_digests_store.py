@@ -224,6 +224,8 @@ def test_the_review_site_lists_and_shows_digests_with_links_to_the_cited_documen
     page = client.get("/digests/from-2012", headers=local)
     soup = BeautifulSoup(page.data.decode("utf-8"), "html.parser")
     assert page.status_code == 200 and CAUTION in soup.select_one(".caution").get_text()
+    header = " ".join(soup.select_one("main h1 + p").get_text().split())
+    assert header.endswith(f"selection: since 2012, status active; aspect: {PAPER_ASPECTS[2].question}")
     assert [" ".join(li.p.get_text().split()) for li in soup.select("main > ol > li")] == [
         " ".join(s.text.split()) for s in record.sentences
     ]
